@@ -1,1 +1,90 @@
-fn main(){}
+//! Benchmarks of the exact trace: the batched meridional kernel (portable and AVX2 builds) on 10^6 rays
+//! through 10 spherical surfaces, and the whole first-order + stop + spot evaluation of a 12-surface
+//! system.
+
+use criterion::{BatchSize, Criterion, Throughput, criterion_group, criterion_main};
+use lumenrail_optics::analysis::{Request, analyse};
+#[cfg(target_arch = "x86_64")]
+use lumenrail_optics::batch::trace_batch_avx2;
+use lumenrail_optics::batch::{RayBatch, trace_batch, trace_batch_portable};
+use lumenrail_optics::material::Material;
+use lumenrail_optics::paraxial::Object;
+use lumenrail_optics::system::{Sequence, Shape, Surface, System};
+use lumenrail_optics::trace::Ray;
+use std::hint::black_box;
+
+const RAYS: usize = 1_000_000;
+
+/// Five spherical singlets (10 surfaces), 25 mm clear aperture, indices 1.52 and 1.62.
+fn ten_surfaces() -> Sequence {
+    let mut surfaces = Vec::new();
+    for i in 0..5 {
+        let z = 20.0 + 40.0 * i as f64;
+        let n = if i % 2 == 0 { 1.52 } else { 1.62 };
+        surfaces.push(Surface::refracting(z, Shape::sphere(80.0), Material::Constant(n)).with_semi_aperture(12.5));
+        surfaces.push(Surface::refracting(z + 5.0, Shape::sphere(-120.0), Material::AIR).with_semi_aperture(12.5));
+    }
+    System { object_medium: Material::AIR, surfaces }.at(587.5618).unwrap()
+}
+
+fn fresh_batch() -> RayBatch {
+    let mut b = RayBatch::with_capacity(RAYS);
+    for i in 0..RAYS {
+        let y = -6.0 + 12.0 * (i as f64 / RAYS as f64);
+        b.push(Ray::at_angle(y, 0.0, 0.002 * (i % 7) as f64));
+    }
+    b
+}
+
+fn batch_trace(c: &mut Criterion) {
+    let seq = ten_surfaces();
+    let template = fresh_batch();
+    let mut g = c.benchmark_group("meridional_batch");
+    g.throughput(Throughput::Elements((RAYS * seq.steps.len()) as u64));
+    g.sample_size(20);
+    let fresh = || template.clone();
+    g.bench_function("dispatched_1e6_rays_10_surfaces", |b| {
+        b.iter_batched_ref(fresh, |work| trace_batch(&seq, black_box(work)), BatchSize::LargeInput)
+    });
+    #[cfg(target_arch = "x86_64")]
+    if std::arch::is_x86_feature_detected!("avx2") {
+        g.bench_function("avx2_1e6_rays_10_surfaces", |b| {
+            // SAFETY: AVX2 was just detected.
+            b.iter_batched_ref(fresh, |work| unsafe { trace_batch_avx2(&seq, black_box(work)) }, BatchSize::LargeInput)
+        });
+    }
+    g.bench_function("portable_1e6_rays_10_surfaces", |b| {
+        b.iter_batched_ref(fresh, |work| trace_batch_portable(&seq, black_box(work)), BatchSize::LargeInput)
+    });
+    g.finish();
+}
+
+/// A 12-surface system: an iris and a doublet-like stack of singlets, finite object.
+fn twelve_surfaces() -> System {
+    let mut surfaces = vec![Surface::aperture(95.0, 6.0).in_element(0)];
+    let radii = [(60.0, -45.0), (-40.0, 200.0), (90.0, -70.0), (45.0, 120.0), (-60.0, -150.0)];
+    for (i, (r1, r2)) in radii.iter().enumerate() {
+        let z = 100.0 + 18.0 * i as f64;
+        let glass = if i % 2 == 0 { Material::Abbe { nd: 1.517, vd: 64.2 } } else { Material::Abbe { nd: 1.62, vd: 36.4 } };
+        surfaces.push(Surface::refracting(z, Shape::sphere(*r1), glass).with_semi_aperture(12.0).in_element(i + 1));
+        surfaces.push(Surface::refracting(z + 4.0, Shape::sphere(*r2), Material::AIR).with_semi_aperture(12.0).in_element(i + 1));
+    }
+    surfaces.push(Surface::aperture(300.0, 20.0).in_element(6));
+    System { object_medium: Material::AIR, surfaces }
+}
+
+fn whole_evaluation(c: &mut Criterion) {
+    let system = twelve_surfaces();
+    assert_eq!(system.surfaces.len(), 12);
+    let request = Request {
+        object: Object::Finite { z_mm: 0.0, height_mm: 2.0 },
+        wavelengths_nm: vec![587.5618],
+        primary: 0,
+        planes_mm: vec![400.0],
+        vignetting: false,
+    };
+    c.bench_function("first_order_stop_spot_12_surfaces", |b| b.iter(|| analyse(black_box(&system), black_box(&request)).unwrap()));
+}
+
+criterion_group!(benches, batch_trace, whole_evaluation);
+criterion_main!(benches);

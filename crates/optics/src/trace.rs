@@ -118,13 +118,14 @@ pub(crate) struct Hit {
     pub l: f64,
     /// Geometrical path length from the old point to the intercept (signed).
     pub t: f64,
-    /// 0 through, [`FATE_MISSED`], [`FATE_BLOCKED`] or [`FATE_TIR`].
-    pub fate: u64,
+    /// 0 through, [`FATE_MISSED`], [`FATE_BLOCKED`] or [`FATE_TIR`] (as f64, so that batches stay in
+    /// one lane width).
+    pub fate: f64,
 }
 
-pub(crate) const FATE_MISSED: u64 = 1;
-pub(crate) const FATE_BLOCKED: u64 = 2;
-pub(crate) const FATE_TIR: u64 = 3;
+pub(crate) const FATE_MISSED: f64 = 1.0;
+pub(crate) const FATE_BLOCKED: f64 = 2.0;
+pub(crate) const FATE_TIR: f64 = 3.0;
 
 /// Intersection of a ray with a conicoid about its vertex, by the stable form of the quadratic.
 ///
@@ -139,21 +140,28 @@ pub(crate) fn intersect(c: f64, ck: f64, z_vertex: f64, y: f64, z: f64, m: f64, 
     let b = ck * s0 * l + c * y * m - l;
     let f = ck * s0 * s0 + c * y * y - 2.0 * s0;
     let disc = b * b - a * f;
-    let q = disc.max(0.0).sqrt();
+    let q = (if disc > 0.0 { disc } else { 0.0 }).sqrt();
     let d = -b + q.copysign(-b);
-    let t1 = f / d;
-    let t2 = d / a;
+    // Both roots from one division: t1 = f/d and t2 = d/a share the reciprocal of d·a.
+    let r = 1.0 / (d * a);
+    let (t1, t2) = if a == 0.0 { (f / d, f64::INFINITY) } else { (f * a * r, d * d * r) };
     let near_ok = 1.0 - ck * (s0 + t1 * l) > 0.0;
     let far_ok = 1.0 - ck * (s0 + t2 * l) > 0.0;
     let t = if near_ok { t1 } else { t2 };
-    let ok = disc >= 0.0 && (near_ok || far_ok) && t.is_finite();
+    let ok = (disc >= 0.0) & (near_ok | far_ok) & (t.abs() < f64::INFINITY);
     (t, ok)
 }
 
+/// Surface actions as constants, so that each batch loop is compiled for one action without a branch.
+pub(crate) const REFRACT: u8 = 0;
+pub(crate) const REFLECT: u8 = 1;
+pub(crate) const IDEAL: u8 = 2;
+
 /// One ray meeting one surface: intersect, check the clear aperture, then refract, reflect or deflect.
-/// `CONIC` selects normalising the surface normal (a sphere's (−cy, 1 − cs) is already a unit vector).
+/// `CONIC` selects normalising the surface normal (a sphere's (−cy, 1 − cs) is already a unit vector);
+/// `ACTION` is [`REFRACT`], [`REFLECT`] or [`IDEAL`] (then `focal_mm` is the lens's focal length).
 #[inline(always)]
-pub(crate) fn hit<const CONIC: bool>(step: &Step, y: f64, z: f64, m: f64, l: f64) -> Hit {
+pub(crate) fn hit<const CONIC: bool, const ACTION: u8>(step: &Step, focal_mm: f64, y: f64, z: f64, m: f64, l: f64) -> Hit {
     let c = step.c;
     let ck = c * (1.0 + step.k);
     let (t, met) = intersect(c, ck, step.z_mm, y, z, m, l);
@@ -169,39 +177,56 @@ pub(crate) fn hit<const CONIC: bool>(step: &Step, y: f64, z: f64, m: f64, l: f64
         nz *= inv;
     }
     let cos_i = m * ny + l * nz;
-    let (m1, l1, tir) = match step.kind {
-        Kind::Refract => {
+    let (m1, l1, tir) = match ACTION {
+        REFRACT => {
             let mu = step.n_before / step.n_after;
             let sin_i = m * nz - l * ny;
             let cos2 = 1.0 - mu * mu * sin_i * sin_i;
-            let cos_r = cos2.max(0.0).sqrt().copysign(cos_i);
+            let cos_r = (if cos2 > 0.0 { cos2 } else { 0.0 }).sqrt().copysign(cos_i);
             let g = cos_r - mu * cos_i;
             (mu * m + g * ny, mu * l + g * nz, cos2 < 0.0)
         }
-        Kind::Reflect => (m - 2.0 * cos_i * ny, l - 2.0 * cos_i * nz, false),
-        Kind::Ideal(f) => {
-            let sign = l.signum();
-            let tan1 = m / l.abs() - y1 / f;
+        REFLECT => (m - 2.0 * cos_i * ny, l - 2.0 * cos_i * nz, false),
+        _ => {
+            let tan1 = m / l.abs() - y1 / focal_mm;
             let inv = 1.0 / (1.0 + tan1 * tan1).sqrt();
-            (tan1 * inv, sign * inv, false)
+            (tan1 * inv, inv.copysign(l), false)
         }
     };
-    let fate = if !met {
-        FATE_MISSED
-    } else if !inside {
-        FATE_BLOCKED
-    } else if tir {
-        FATE_TIR
-    } else {
-        0
-    };
+    // Written as selects, not branches, so that the batch loop vectorises.
+    let fate_tir = if tir { FATE_TIR } else { 0.0 };
+    let fate_inside = if inside { fate_tir } else { FATE_BLOCKED };
+    let fate = if met { fate_inside } else { FATE_MISSED };
     Hit { y: y1, z: z1, m: m1, l: l1, t, fate }
+}
+
+/// [`hit`] for any surface, choosing the compiled form at run time (for single rays).
+#[inline]
+pub(crate) fn hit_any(step: &Step, y: f64, z: f64, m: f64, l: f64) -> Hit {
+    match (step.is_spherical(), step.kind) {
+        (true, Kind::Refract) => hit::<false, REFRACT>(step, 0.0, y, z, m, l),
+        (false, Kind::Refract) => hit::<true, REFRACT>(step, 0.0, y, z, m, l),
+        (true, Kind::Reflect) => hit::<false, REFLECT>(step, 0.0, y, z, m, l),
+        (false, Kind::Reflect) => hit::<true, REFLECT>(step, 0.0, y, z, m, l),
+        (_, Kind::Ideal(f)) => hit::<false, IDEAL>(step, f, y, z, m, l),
+    }
+}
+
+/// The typed error for a fate code.
+pub(crate) fn fate_error(fate: f64, surface: usize, height_mm: f64) -> RayError {
+    if fate == FATE_MISSED {
+        RayError::Missed { surface }
+    } else if fate == FATE_BLOCKED {
+        RayError::Blocked { surface, height_mm }
+    } else {
+        RayError::TotalInternalReflection { surface }
+    }
 }
 
 /// Optical path added by an ideal thin lens at height `rho_mm`: −n(√(ρ² + f²) − |f|) sgn f, which makes
 /// the path from a plane wave to the focus the same for every ray (exact for the infinite conjugate).
-#[inline]
-fn ideal_lens_path(n: f64, f: f64, rho_mm: f64) -> f64 {
+#[inline(always)]
+pub(crate) fn ideal_lens_path(n: f64, f: f64, rho_mm: f64) -> f64 {
     -n * ((rho_mm * rho_mm + f * f).sqrt() - f.abs()) * f.signum()
 }
 
@@ -211,16 +236,9 @@ pub fn through_step(step: &Step, index: usize, ray: &Ray, check_aperture: bool) 
     if !check_aperture {
         s.semi_aperture_mm = f64::INFINITY;
     }
-    let h = if s.is_spherical() {
-        hit::<false>(&s, ray.y_mm, ray.z_mm, ray.m, ray.l)
-    } else {
-        hit::<true>(&s, ray.y_mm, ray.z_mm, ray.m, ray.l)
-    };
-    match h.fate {
-        FATE_MISSED => return Err(RayError::Missed { surface: index }),
-        FATE_BLOCKED => return Err(RayError::Blocked { surface: index, height_mm: h.y }),
-        FATE_TIR => return Err(RayError::TotalInternalReflection { surface: index }),
-        _ => {}
+    let h = hit_any(&s, ray.y_mm, ray.z_mm, ray.m, ray.l);
+    if h.fate != 0.0 {
+        return Err(fate_error(h.fate, index, h.y));
     }
     let mut opl = ray.opl_mm + s.n_before * h.t;
     if let Kind::Ideal(f) = s.kind {
@@ -276,7 +294,7 @@ pub fn trace_path(seq: &Sequence, start: Ray) -> RayPath {
                         Err(_) => {
                             let mut s = *step;
                             s.semi_aperture_mm = f64::INFINITY;
-                            let h = hit::<true>(&s, ray.y_mm, ray.z_mm, ray.m, ray.l);
+                            let h = hit_any(&s, ray.y_mm, ray.z_mm, ray.m, ray.l);
                             (h.y, h.z)
                         }
                     };
