@@ -1,4 +1,5 @@
 //! Benchmarks of the exact trace: the batched meridional kernel (portable and AVX2 builds) on 10^6 rays
+#![allow(missing_docs)] // criterion_group! generates undocumented items.
 //! through 10 spherical surfaces, and the whole first-order + stop + spot evaluation of a 12-surface
 //! system.
 
@@ -47,9 +48,9 @@ fn batch_trace(c: &mut Criterion) {
         b.iter_batched_ref(fresh, |work| trace_batch(&seq, black_box(work)), BatchSize::LargeInput)
     });
     #[cfg(target_arch = "x86_64")]
-    if std::arch::is_x86_feature_detected!("avx2") {
+    if std::arch::is_x86_feature_detected!("avx2") && std::arch::is_x86_feature_detected!("fma") {
         g.bench_function("avx2_1e6_rays_10_surfaces", |b| {
-            // SAFETY: AVX2 was just detected.
+            // SAFETY: AVX2 and FMA were just detected.
             b.iter_batched_ref(fresh, |work| unsafe { trace_batch_avx2(&seq, black_box(work)) }, BatchSize::LargeInput)
         });
     }
@@ -65,9 +66,12 @@ fn twelve_surfaces() -> System {
     let radii = [(60.0, -45.0), (-40.0, 200.0), (90.0, -70.0), (45.0, 120.0), (-60.0, -150.0)];
     for (i, (r1, r2)) in radii.iter().enumerate() {
         let z = 100.0 + 18.0 * i as f64;
-        let glass = if i % 2 == 0 { Material::Abbe { nd: 1.517, vd: 64.2 } } else { Material::Abbe { nd: 1.62, vd: 36.4 } };
+        let glass =
+            if i % 2 == 0 { Material::Abbe { nd: 1.517, vd: 64.2 } } else { Material::Abbe { nd: 1.62, vd: 36.4 } };
         surfaces.push(Surface::refracting(z, Shape::sphere(*r1), glass).with_semi_aperture(12.0).in_element(i + 1));
-        surfaces.push(Surface::refracting(z + 4.0, Shape::sphere(*r2), Material::AIR).with_semi_aperture(12.0).in_element(i + 1));
+        surfaces.push(
+            Surface::refracting(z + 4.0, Shape::sphere(*r2), Material::AIR).with_semi_aperture(12.0).in_element(i + 1),
+        );
     }
     surfaces.push(Surface::aperture(300.0, 20.0).in_element(6));
     System { object_medium: Material::AIR, surfaces }
@@ -83,7 +87,9 @@ fn whole_evaluation(c: &mut Criterion) {
         planes_mm: vec![400.0],
         vignetting: false,
     };
-    c.bench_function("first_order_stop_spot_12_surfaces", |b| b.iter(|| analyse(black_box(&system), black_box(&request)).unwrap()));
+    c.bench_function("first_order_stop_spot_12_surfaces", |b| {
+        b.iter(|| analyse(black_box(&system), black_box(&request)).unwrap())
+    });
 }
 
 criterion_group!(benches, batch_trace, whole_evaluation);

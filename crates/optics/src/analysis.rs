@@ -102,9 +102,8 @@ pub fn analyse(system: &System, request: &Request) -> Result<Analysis, AnalysisE
     if request.primary >= count {
         return Err(AnalysisError::Primary { primary: request.primary, count });
     }
-    let at = |wavelength_nm: f64| {
-        system.at(wavelength_nm).map_err(|source| AnalysisError::System { wavelength_nm, source })
-    };
+    let at =
+        |wavelength_nm: f64| system.at(wavelength_nm).map_err(|source| AnalysisError::System { wavelength_nm, source });
     let seqs: Vec<Sequence> = request.wavelengths_nm.iter().map(|&w| at(w)).collect::<Result<_, _>>()?;
     let seq = seqs[request.primary].clone();
     let object = request.object;
@@ -169,10 +168,10 @@ pub fn analyse(system: &System, request: &Request) -> Result<Analysis, AnalysisE
         analysis.airy_radius_um = Some(AIRY_FIRST_ZERO * wavelength_mm * nw * 1e3);
         analysis.depth_of_focus_mm = Some(2.0 * wavelength_mm * nw * nw);
     }
-    if let (Some(efl), Some(d)) = (first_order.and_then(|f| f.efl_mm), p.entrance_pupil_diameter_mm) {
-        if d > 0.0 {
-            analysis.f_number = Some(efl.abs() / d);
-        }
+    if let (Some(efl), Some(d)) = (first_order.and_then(|f| f.efl_mm), p.entrance_pupil_diameter_mm)
+        && d > 0.0
+    {
+        analysis.f_number = Some(efl.abs() / d);
     }
     let (short, long) = (&seqs[shortest.unwrap_or(0)], &seqs[longest.unwrap_or(0)]);
     analysis.seidel = Some(seidel(&seq, &p.marginal, p.marginal_start.1, &p.chief, p.chief_start.1, short, long));

@@ -44,6 +44,7 @@ pub mod paraxial;
 pub mod pupil;
 pub mod quadrature;
 pub mod seidel;
+mod simd;
 pub mod spot;
 pub mod system;
 pub mod trace;

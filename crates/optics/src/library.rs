@@ -25,20 +25,13 @@ pub struct LibraryEntry {
 
 /// Sellmeier form with resonance wavelengths λᵢ in µm (Cᵢ = λᵢ²).
 fn sellmeier_lambda(b: [f64; 3], lambda_um: [f64; 3], range_nm: (f64, f64)) -> Material {
-    Material::Sellmeier {
-        b: b.to_vec(),
-        c_um2: lambda_um.iter().map(|l| l * l).collect(),
-        range_nm,
-    }
+    Material::Sellmeier { b: b.to_vec(), c_um2: lambda_um.iter().map(|l| l * l).collect(), range_nm }
 }
 
 /// A generic glass from its six-digit code.
 fn coded_glass(code: &str) -> Material {
     let digits: u32 = code.parse().expect("built-in glass codes are six digits");
-    Material::Abbe {
-        nd: 1.0 + f64::from(digits / 1000) / 1000.0,
-        vd: f64::from(digits % 1000) / 10.0,
-    }
+    Material::Abbe { nd: 1.0 + f64::from(digits / 1000) / 1000.0, vd: f64::from(digits % 1000) / 10.0 }
 }
 
 /// Every built-in material, in the order a menu should show them.
@@ -143,10 +136,8 @@ pub fn find(name: &str) -> Option<LibraryEntry> {
 /// The library names nearest to a misspelt `name`, best first (at most three), for "did you mean" hints.
 pub fn nearest_names(name: &str) -> Vec<&'static str> {
     let lower = name.to_lowercase();
-    let mut scored: Vec<(usize, &'static str)> = entries()
-        .iter()
-        .map(|e| (edit_distance(&lower, e.name), e.name))
-        .collect();
+    let mut scored: Vec<(usize, &'static str)> =
+        entries().iter().map(|e| (edit_distance(&lower, e.name), e.name)).collect();
     scored.sort();
     let limit = (lower.chars().count() / 2).max(3);
     scored.into_iter().filter(|(d, _)| *d <= limit).take(3).map(|(_, n)| n).collect()

@@ -133,11 +133,7 @@ impl Material {
             }
             Material::Sellmeier { b, c_um2, .. } => {
                 let l2 = (wavelength_nm * 1e-3).powi(2);
-                let n2 = 1.0
-                    + b.iter()
-                        .zip(c_um2)
-                        .map(|(bi, ci)| bi * l2 / (l2 - ci))
-                        .sum::<f64>();
+                let n2 = 1.0 + b.iter().zip(c_um2).map(|(bi, ci)| bi * l2 / (l2 - ci)).sum::<f64>();
                 if !(n2.is_finite() && n2 >= 1.0) {
                     return Err(MaterialError::Invalid(format!(
                         "the Sellmeier formula gives n² = {n2} at {wavelength_nm} nm (a resonance or an absorbing band)"

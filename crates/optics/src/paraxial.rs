@@ -63,8 +63,7 @@ pub struct SystemMatrix {
 impl SystemMatrix {
     /// The matrix of `seq`, from two paraxial rays; the identity when there are no surfaces.
     pub fn of(seq: &Sequence) -> SystemMatrix {
-        let (Some(ra), Some(rb)) = (trace(seq, 1.0, 0.0).last().copied(), trace(seq, 0.0, 1.0).last().copied())
-        else {
+        let (Some(ra), Some(rb)) = (trace(seq, 1.0, 0.0).last().copied(), trace(seq, 0.0, 1.0).last().copied()) else {
             return SystemMatrix { a: 1.0, b: 0.0, c: 0.0, d: 1.0 };
         };
         SystemMatrix { a: ra.y_mm, b: rb.y_mm, c: ra.nu, d: rb.nu }

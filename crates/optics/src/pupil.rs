@@ -121,8 +121,10 @@ impl Pupils {
         };
         let last_i = seq.steps.len() - 1;
         let last = &seq.steps[last_i];
-        let unit_chief_last = ParaxialRay { y_mm: b[last_i].y_mm - alpha * a[last_i].y_mm, nu: b[last_i].nu - alpha * a[last_i].nu };
-        let (exit_pupil_at_mm, exit_pupil_diameter_mm) = match paraxial::axis_crossing_mm(seq, last_i, &unit_chief_last) {
+        let unit_chief_last =
+            ParaxialRay { y_mm: b[last_i].y_mm - alpha * a[last_i].y_mm, nu: b[last_i].nu - alpha * a[last_i].nu };
+        let (exit_pupil_at_mm, exit_pupil_diameter_mm) = match paraxial::axis_crossing_mm(seq, last_i, &unit_chief_last)
+        {
             None => (None, None),
             Some(z) => {
                 let m = marginal[last_i];
@@ -266,7 +268,12 @@ impl<'a> Aimer<'a> {
         if f1.abs() <= 1e-9 * (1.0 + height_mm.abs()) {
             Ok(p1)
         } else {
-            Err(RayError::Missed { surface: match self.stop { StopAt::Surface(i) => i, StopAt::Beam => 0 } })
+            Err(RayError::Missed {
+                surface: match self.stop {
+                    StopAt::Surface(i) => i,
+                    StopAt::Beam => 0,
+                },
+            })
         }
     }
 
@@ -392,10 +399,7 @@ mod tests {
     fn a_small_lens_after_the_stop_vignettes_the_field_edge() {
         let seq = System {
             object_medium: Material::AIR,
-            surfaces: vec![
-                Surface::ideal_lens(100.0, 50.0).with_semi_aperture(5.0),
-                Surface::aperture(200.0, 1.0),
-            ],
+            surfaces: vec![Surface::ideal_lens(100.0, 50.0).with_semi_aperture(5.0), Surface::aperture(200.0, 1.0)],
         }
         .at(550.0)
         .unwrap();

@@ -7,7 +7,7 @@
 //! C_I = A y Δ(δn/n), C_II = Ā y Δ(δn/n). Signed indices carry mirrors. An ideal thin lens images every
 //! plane perfectly onto a plane, so it contributes nothing.
 
-use crate::paraxial::{ParaxialRay, surface_power};
+use crate::paraxial::ParaxialRay;
 use crate::system::{Kind, Sequence};
 
 /// The Seidel coefficients of one surface (or their sums), mm.
@@ -80,7 +80,7 @@ pub fn seidel(
         let u1 = marginal[i].nu / n1;
         nu_b = marginal[i].nu;
         nub_b = chief[i].nu;
-        if matches!(step.kind, Kind::Ideal(_)) || surface_power(step) == 0.0 && step.c == 0.0 && n == n1 {
+        if matches!(step.kind, Kind::Ideal(_)) {
             surfaces.push(SeidelTerms::default());
             continue;
         }
@@ -152,7 +152,13 @@ mod tests {
         let last = seq.steps.len() - 1;
         let n1 = seq.steps[last].signed_n_after();
         let h0 = lagrange_invariant(1.0, p.marginal[0].y_mm, p.marginal_start.1, p.chief[0].y_mm, p.chief_start.1);
-        let h1 = lagrange_invariant(n1, p.marginal[last].y_mm, p.marginal[last].nu / n1, p.chief[last].y_mm, p.chief[last].nu / n1);
+        let h1 = lagrange_invariant(
+            n1,
+            p.marginal[last].y_mm,
+            p.marginal[last].nu / n1,
+            p.chief[last].y_mm,
+            p.chief[last].nu / n1,
+        );
         assert!((h0 - h1).abs() < 1e-13);
     }
 }

@@ -86,12 +86,21 @@ impl<'a> AxialSpot<'a> {
         for r in &mut kept {
             r.weight /= total;
         }
-        Ok(AxialSpot { seq, aimer, stop_semi_mm: a, rings: kept, blocked_share: blocked, marginal, samples: Vec::new() })
+        Ok(AxialSpot {
+            seq,
+            aimer,
+            stop_semi_mm: a,
+            rings: kept,
+            blocked_share: blocked,
+            marginal,
+            samples: Vec::new(),
+        })
     }
 
     /// Traces the evenly spaced samples that [`AxialSpot::geometric_radius_at`] needs.
     pub fn with_geometric_samples(mut self) -> AxialSpot<'a> {
-        let rhos: Vec<f64> = (1..=GEOMETRIC_SAMPLES).map(|j| (j as f64 / GEOMETRIC_SAMPLES as f64) * (1.0 - 1e-12)).collect();
+        let rhos: Vec<f64> =
+            (1..=GEOMETRIC_SAMPLES).map(|j| (j as f64 / GEOMETRIC_SAMPLES as f64) * (1.0 - 1e-12)).collect();
         let traced = trace_aimed(self.seq, &self.aimer, rhos.iter().map(|rho| rho * self.stop_semi_mm));
         for (rho, outcome) in rhos.into_iter().zip(traced) {
             if let Ok((ray, p)) = outcome {
@@ -152,7 +161,11 @@ impl<'a> AxialSpot<'a> {
 
 /// Aims a ray at each stop height (each aim starting from the last one's answer), then traces them all
 /// in one batch, whose loop hides the latency of each ray's chain of divisions and roots.
-fn trace_aimed(seq: &Sequence, aimer: &Aimer<'_>, heights_mm: impl Iterator<Item = f64>) -> Vec<Result<(Ray, f64), RayError>> {
+fn trace_aimed(
+    seq: &Sequence,
+    aimer: &Aimer<'_>,
+    heights_mm: impl Iterator<Item = f64>,
+) -> Vec<Result<(Ray, f64), RayError>> {
     let mut params: Vec<Result<f64, RayError>> = Vec::new();
     let mut batch = RayBatch::with_capacity(heights_mm.size_hint().0);
     let mut guess = None;
@@ -180,7 +193,13 @@ fn trace_aimed(seq: &Sequence, aimer: &Aimer<'_>, heights_mm: impl Iterator<Item
 /// The maximum of a smooth function bracketed by `a < b < c` with f(b) the largest of the three, by
 /// successive parabolic interpolation (each step evaluates f at the vertex of the parabola through the
 /// bracket), to `tol` in the argument.
-fn parabolic_max(f: impl Fn(f64) -> f64, (mut a, mut fa): (f64, f64), (mut b, mut fb): (f64, f64), (mut c, mut fc): (f64, f64), tol: f64) -> f64 {
+fn parabolic_max(
+    f: impl Fn(f64) -> f64,
+    (mut a, mut fa): (f64, f64),
+    (mut b, mut fb): (f64, f64),
+    (mut c, mut fc): (f64, f64),
+    tol: f64,
+) -> f64 {
     for _ in 0..40 {
         let num = (b - a).powi(2) * (fb - fc) - (b - c).powi(2) * (fb - fa);
         let den = (b - a) * (fb - fc) - (b - c) * (fb - fa);
@@ -229,7 +248,12 @@ pub struct SpotFigures {
 }
 
 /// Computes converged [`SpotFigures`] at `planes_mm`.
-pub fn spot_figures(seq: &Sequence, object: Object, pupils: &Pupils, planes_mm: &[f64]) -> Result<SpotFigures, SpotError> {
+pub fn spot_figures(
+    seq: &Sequence,
+    object: Object,
+    pupils: &Pupils,
+    planes_mm: &[f64],
+) -> Result<SpotFigures, SpotError> {
     let mut rings = 4;
     let mut prev: Option<Vec<f64>> = None;
     loop {
@@ -238,9 +262,9 @@ pub fn spot_figures(seq: &Sequence, object: Object, pupils: &Pupils, planes_mm: 
         let mut figures: Vec<f64> = planes_mm.iter().map(|&z| spot.rms_radius_at(z)).collect();
         figures.push(brms);
         figures.push(bz);
-        let settled = prev.as_ref().is_some_and(|p| {
-            p.iter().zip(&figures).all(|(a, b)| (a - b).abs() <= 1e-9 * b.abs().max(a.abs()) + 1e-12)
-        });
+        let settled = prev
+            .as_ref()
+            .is_some_and(|p| p.iter().zip(&figures).all(|(a, b)| (a - b).abs() <= 1e-9 * b.abs().max(a.abs()) + 1e-12));
         if settled || rings >= 256 {
             let spot = spot.with_geometric_samples();
             return Ok(SpotFigures {

@@ -102,13 +102,7 @@ pub struct Surface {
 impl Surface {
     /// A refracting surface into `into`.
     pub fn refracting(vertex_z_mm: f64, shape: Shape, into: Material) -> Surface {
-        Surface {
-            vertex_z_mm,
-            shape,
-            action: Action::Refract { into },
-            semi_aperture_mm: None,
-            element: 0,
-        }
+        Surface { vertex_z_mm, shape, action: Action::Refract { into }, semi_aperture_mm: None, element: 0 }
     }
 
     /// A mirror.
@@ -343,8 +337,8 @@ mod tests {
             surfaces: vec![Surface::mirror(100.0, Shape::Flat), Surface::ideal_lens(50.0, 20.0)],
         };
         let seq = system.at(550.0).unwrap();
-        assert_eq!(seq.steps[0].dir_after, -1.0);
-        assert_eq!(seq.steps[1].dir_before, -1.0);
-        assert_eq!(seq.dir_image(), -1.0);
+        assert!(seq.steps[0].dir_after < 0.0);
+        assert!(seq.steps[1].dir_before < 0.0);
+        assert!(seq.dir_image() < 0.0);
     }
 }

@@ -6,6 +6,7 @@
 //! vertex. A ray is a point and a unit direction in the rail frame (y up, z along the rail); the optical
 //! path length from the ray's start is carried along.
 
+use crate::simd::Lane;
 use crate::system::{Kind, Sequence, Step};
 
 /// A real meridional ray: a point, a unit direction and the optical path travelled so far.
@@ -109,106 +110,170 @@ pub struct RayPath {
     pub outcome: Result<Ray, RayError>,
 }
 
-/// The result of one ray meeting one surface, computed without branching so that batches vectorise.
+/// The result of one ray (or one lane vector of rays) meeting one surface, computed without branching so
+/// that batches vectorise.
 #[derive(Debug, Clone, Copy)]
-pub(crate) struct Hit {
-    pub y: f64,
-    pub z: f64,
-    pub m: f64,
-    pub l: f64,
+pub(crate) struct Hit<V> {
+    pub y: V,
+    pub z: V,
+    pub m: V,
+    pub l: V,
     /// Geometrical path length from the old point to the intercept (signed).
-    pub t: f64,
-    /// 0 through, [`FATE_MISSED`], [`FATE_BLOCKED`] or [`FATE_TIR`] (as f64, so that batches stay in
-    /// one lane width).
-    pub fate: f64,
+    pub t: V,
+    /// 0 through, [`FATE_MISSED`], [`FATE_BLOCKED`] or [`FATE_TIR`] (as f64, so that batches stay in one
+    /// lane width).
+    pub fate: V,
 }
 
 pub(crate) const FATE_MISSED: f64 = 1.0;
 pub(crate) const FATE_BLOCKED: f64 = 2.0;
 pub(crate) const FATE_TIR: f64 = 3.0;
 
-/// Intersection of a ray with a conicoid about its vertex, by the stable form of the quadratic.
-///
-/// With s the distance from the vertex plane, the surface is c y² − 2s + c(1+k)s² = 0; along the ray
-/// (y + t m, s + t l) this is a t² + 2b t + f = 0. The root continuous with the flat case is
-/// t = f / (−b + sgn(−b)√(b² − af)), which keeps its digits as c → 0; if it lands on the far sheet
-/// (1 − c(1+k)s ≤ 0) the other root D/a is taken. Returns `(t, ok)`.
-#[inline(always)]
-pub(crate) fn intersect(c: f64, ck: f64, z_vertex: f64, y: f64, z: f64, m: f64, l: f64) -> (f64, bool) {
-    let s0 = z - z_vertex;
-    let a = ck * l * l + c * m * m;
-    let b = ck * s0 * l + c * y * m - l;
-    let f = ck * s0 * s0 + c * y * y - 2.0 * s0;
-    let disc = b * b - a * f;
-    let q = (if disc > 0.0 { disc } else { 0.0 }).sqrt();
-    let d = -b + q.copysign(-b);
-    // Both roots from one division: t1 = f/d and t2 = d/a share the reciprocal of d·a.
-    let r = 1.0 / (d * a);
-    let (t1, t2) = if a == 0.0 { (f / d, f64::INFINITY) } else { (f * a * r, d * d * r) };
-    let near_ok = 1.0 - ck * (s0 + t1 * l) > 0.0;
-    let far_ok = 1.0 - ck * (s0 + t2 * l) > 0.0;
-    let t = if near_ok { t1 } else { t2 };
-    let ok = (disc >= 0.0) & (near_ok | far_ok) & (t.abs() < f64::INFINITY);
-    (t, ok)
-}
+/// Surface shapes as constants, so that each batch loop is compiled for one shape.
+pub(crate) const FLAT: u8 = 0;
+pub(crate) const SPHERE: u8 = 1;
+pub(crate) const CONIC: u8 = 2;
 
 /// Surface actions as constants, so that each batch loop is compiled for one action without a branch.
 pub(crate) const REFRACT: u8 = 0;
 pub(crate) const REFLECT: u8 = 1;
 pub(crate) const IDEAL: u8 = 2;
 
-/// One ray meeting one surface: intersect, check the clear aperture, then refract, reflect or deflect.
-/// `CONIC` selects normalising the surface normal (a sphere's (−cy, 1 − cs) is already a unit vector);
-/// `ACTION` is [`REFRACT`], [`REFLECT`] or [`IDEAL`] (then `focal_mm` is the lens's focal length).
-#[inline(always)]
-pub(crate) fn hit<const CONIC: bool, const ACTION: u8>(step: &Step, focal_mm: f64, y: f64, z: f64, m: f64, l: f64) -> Hit {
-    let c = step.c;
-    let ck = c * (1.0 + step.k);
-    let (t, met) = intersect(c, ck, step.z_mm, y, z, m, l);
-    let y1 = y + t * m;
-    let z1 = z + t * l;
-    let s1 = z1 - step.z_mm;
-    let inside = y1.abs() <= step.semi_aperture_mm;
-    let mut ny = -c * y1;
-    let mut nz = 1.0 - ck * s1;
-    if CONIC {
-        let inv = 1.0 / (ny * ny + nz * nz).sqrt();
-        ny *= inv;
-        nz *= inv;
-    }
-    let cos_i = m * ny + l * nz;
-    let (m1, l1, tir) = match ACTION {
-        REFRACT => {
-            let mu = step.n_before / step.n_after;
-            let sin_i = m * nz - l * ny;
-            let cos2 = 1.0 - mu * mu * sin_i * sin_i;
-            let cos_r = (if cos2 > 0.0 { cos2 } else { 0.0 }).sqrt().copysign(cos_i);
-            let g = cos_r - mu * cos_i;
-            (mu * m + g * ny, mu * l + g * nz, cos2 < 0.0)
+/// The numbers of a step that the kernel reads, splatted into lanes once per surface.
+#[derive(Clone, Copy)]
+pub(crate) struct StepLanes<V> {
+    c: V,
+    ck: V,
+    z_vertex: V,
+    semi: V,
+    mu: V,
+    focal: V,
+}
+
+impl<V: Lane> StepLanes<V> {
+    #[inline(always)]
+    pub(crate) fn new(step: &Step) -> StepLanes<V> {
+        let focal = match step.kind {
+            Kind::Ideal(f) => f,
+            _ => 1.0,
+        };
+        StepLanes {
+            c: V::splat(step.c),
+            ck: V::splat(step.c * (1.0 + step.k)),
+            z_vertex: V::splat(step.z_mm),
+            semi: V::splat(step.semi_aperture_mm),
+            mu: V::splat(step.n_before / step.n_after),
+            focal: V::splat(focal),
         }
-        REFLECT => (m - 2.0 * cos_i * ny, l - 2.0 * cos_i * nz, false),
+    }
+}
+
+/// Which compiled form of the kernel a step needs: (shape, action).
+pub(crate) fn kernel_form(step: &Step) -> (u8, u8) {
+    let shape = if step.c == 0.0 {
+        FLAT
+    } else if step.k == 0.0 {
+        SPHERE
+    } else {
+        CONIC
+    };
+    let action = match step.kind {
+        Kind::Refract => REFRACT,
+        Kind::Reflect => REFLECT,
+        Kind::Ideal(_) => IDEAL,
+    };
+    (shape, action)
+}
+
+/// One ray meeting one surface: intersect, check the clear aperture, then refract, reflect or deflect.
+///
+/// Intersection with a conicoid about its vertex uses the stable form of the quadratic. With s the
+/// distance from the vertex plane, the surface is c y² − 2s + c(1+k)s² = 0; along the ray (y + t m, s + t l)
+/// this is a t² + 2b t + f = 0. The root continuous with the flat case is t = f / (−b + sgn(−b)√(b² − af)),
+/// which keeps its digits as c → 0; if it lands on the far sheet (1 − c(1+k)s ≤ 0) the other root d/a is
+/// taken. A sphere's normal (−cy, 1 − cs) is already a unit vector; a conicoid's is normalised.
+#[inline(always)]
+pub(crate) fn hit<V: Lane, const SHAPE: u8, const ACTION: u8>(k: &StepLanes<V>, y: V, z: V, m: V, l: V) -> Hit<V> {
+    let zero = V::splat(0.0);
+    let one = V::splat(1.0);
+    let s0 = z - k.z_vertex;
+    let (t, met) = if SHAPE == FLAT {
+        (-s0 / l, !l.eq(zero))
+    } else {
+        let a = (k.ck * l).mul_add(l, k.c * m * m);
+        let b = (k.ck * s0).mul_add(l, (k.c * y).mul_add(m, -l));
+        let f = (k.ck * s0).mul_add(s0, (k.c * y).mul_add(y, V::splat(-2.0) * s0));
+        let disc = b.mul_add(b, -(a * f));
+        let q = disc.max0().sqrt();
+        let d = -b + q.copysign(-b);
+        // Both roots from one division: t1 = f/d and t2 = d/a share the reciprocal of d·a.
+        let r = one / (d * a);
+        let mut t1 = f * a * r;
+        let mut t2 = d * d * r;
+        if SHAPE == CONIC {
+            // A conicoid's a can vanish for one ray direction: then the only root is f/d.
+            let flat_a = a.eq(zero);
+            t1 = V::select(flat_a, f / d, t1);
+            t2 = V::select(flat_a, V::splat(f64::INFINITY), t2);
+        }
+        let near_ok = (one - k.ck * t1.mul_add(l, s0)).gt(zero);
+        let far_ok = (one - k.ck * t2.mul_add(l, s0)).gt(zero);
+        let t = V::select(near_ok, t1, t2);
+        (t, disc.ge(zero) & (near_ok | far_ok) & t.abs().lt(V::splat(f64::INFINITY)))
+    };
+    let y1 = t.mul_add(m, y);
+    let z1 = t.mul_add(l, z);
+    let inside = y1.abs().le(k.semi);
+    let (ny, nz) = match SHAPE {
+        FLAT => (zero, one),
+        SPHERE => (-k.c * y1, one - k.ck * (z1 - k.z_vertex)),
         _ => {
-            let tan1 = m / l.abs() - y1 / focal_mm;
-            let inv = 1.0 / (1.0 + tan1 * tan1).sqrt();
-            (tan1 * inv, inv.copysign(l), false)
+            let (ny, nz) = (-k.c * y1, one - k.ck * (z1 - k.z_vertex));
+            let inv = one / ny.mul_add(ny, nz * nz).sqrt();
+            (ny * inv, nz * inv)
         }
     };
-    // Written as selects, not branches, so that the batch loop vectorises.
-    let fate_tir = if tir { FATE_TIR } else { 0.0 };
-    let fate_inside = if inside { fate_tir } else { FATE_BLOCKED };
-    let fate = if met { fate_inside } else { FATE_MISSED };
+    let cos_i = m.mul_add(ny, l * nz);
+    let (m1, l1, tir) = match ACTION {
+        REFRACT => {
+            let mu = k.mu;
+            let sin_i = m.mul_add(nz, -(l * ny));
+            let cos2 = (-(mu * mu) * sin_i).mul_add(sin_i, one);
+            let cos_r = cos2.max0().sqrt().copysign(cos_i);
+            let g = cos_r - mu * cos_i;
+            (mu.mul_add(m, g * ny), mu.mul_add(l, g * nz), cos2.lt(zero))
+        }
+        REFLECT => {
+            let two_cos = V::splat(2.0) * cos_i;
+            (m - two_cos * ny, l - two_cos * nz, zero.lt(zero))
+        }
+        _ => {
+            let tan1 = m / l.abs() - y1 / k.focal;
+            let inv = one / tan1.mul_add(tan1, one).sqrt();
+            (tan1 * inv, inv.copysign(l), zero.lt(zero))
+        }
+    };
+    // Missed before blocked before total internal reflection; the three cases exclude each other.
+    let fate = V::only(!met, V::splat(FATE_MISSED))
+        .either(V::only(met & !inside, V::splat(FATE_BLOCKED)))
+        .either(V::only(met & inside & tir, V::splat(FATE_TIR)));
     Hit { y: y1, z: z1, m: m1, l: l1, t, fate }
 }
 
-/// [`hit`] for any surface, choosing the compiled form at run time (for single rays).
+/// [`hit`] for one ray through any surface, choosing the compiled form at run time.
 #[inline]
-pub(crate) fn hit_any(step: &Step, y: f64, z: f64, m: f64, l: f64) -> Hit {
-    match (step.is_spherical(), step.kind) {
-        (true, Kind::Refract) => hit::<false, REFRACT>(step, 0.0, y, z, m, l),
-        (false, Kind::Refract) => hit::<true, REFRACT>(step, 0.0, y, z, m, l),
-        (true, Kind::Reflect) => hit::<false, REFLECT>(step, 0.0, y, z, m, l),
-        (false, Kind::Reflect) => hit::<true, REFLECT>(step, 0.0, y, z, m, l),
-        (_, Kind::Ideal(f)) => hit::<false, IDEAL>(step, f, y, z, m, l),
+pub(crate) fn hit_any(step: &Step, y: f64, z: f64, m: f64, l: f64) -> Hit<f64> {
+    let k = StepLanes::<f64>::new(step);
+    match kernel_form(step) {
+        (FLAT, REFRACT) => hit::<f64, FLAT, REFRACT>(&k, y, z, m, l),
+        (FLAT, REFLECT) => hit::<f64, FLAT, REFLECT>(&k, y, z, m, l),
+        (FLAT, _) => hit::<f64, FLAT, IDEAL>(&k, y, z, m, l),
+        (SPHERE, REFRACT) => hit::<f64, SPHERE, REFRACT>(&k, y, z, m, l),
+        (SPHERE, REFLECT) => hit::<f64, SPHERE, REFLECT>(&k, y, z, m, l),
+        (SPHERE, _) => hit::<f64, SPHERE, IDEAL>(&k, y, z, m, l),
+        (_, REFRACT) => hit::<f64, CONIC, REFRACT>(&k, y, z, m, l),
+        (_, REFLECT) => hit::<f64, CONIC, REFLECT>(&k, y, z, m, l),
+        (_, _) => hit::<f64, CONIC, IDEAL>(&k, y, z, m, l),
     }
 }
 
@@ -226,8 +291,8 @@ pub(crate) fn fate_error(fate: f64, surface: usize, height_mm: f64) -> RayError 
 /// Optical path added by an ideal thin lens at height `rho_mm`: −n(√(ρ² + f²) − |f|) sgn f, which makes
 /// the path from a plane wave to the focus the same for every ray (exact for the infinite conjugate).
 #[inline(always)]
-pub(crate) fn ideal_lens_path(n: f64, f: f64, rho_mm: f64) -> f64 {
-    -n * ((rho_mm * rho_mm + f * f).sqrt() - f.abs()) * f.signum()
+pub(crate) fn ideal_lens_path<V: Lane>(n: V, f: V, rho_mm: V) -> V {
+    -n * (rho_mm.mul_add(rho_mm, f * f).sqrt() - f.abs()) * V::splat(1.0).copysign(f)
 }
 
 /// Traces one ray through one surface, scalar, with typed errors.

@@ -1,7 +1,7 @@
 //! Property tests: random valid systems give finite figures or a typed error, never a panic or a NaN.
 
 use lumenrail_optics::analysis::{Request, analyse};
-use lumenrail_optics::batch::{RayBatch, trace_batch};
+use lumenrail_optics::batch::{RayBatch, trace_batch_portable};
 use lumenrail_optics::material::Material;
 use lumenrail_optics::paraxial::Object;
 use lumenrail_optics::system::{Shape, Surface, System};
@@ -19,7 +19,12 @@ enum Part {
 fn part() -> impl Strategy<Value = Part> {
     prop_oneof![
         prop_oneof![-400.0..-10.0f64, 10.0..400.0f64].prop_map(Part::Ideal),
-        (prop_oneof![-300.0..-15.0f64, 15.0..300.0f64], prop_oneof![-300.0..-15.0f64, 15.0..300.0f64], 1.0..12.0f64, 1.4..1.9f64)
+        (
+            prop_oneof![-300.0..-15.0f64, 15.0..300.0f64],
+            prop_oneof![-300.0..-15.0f64, 15.0..300.0f64],
+            1.0..12.0f64,
+            1.4..1.9f64
+        )
             .prop_map(|(r1, r2, t, n)| Part::Singlet { r1, r2, t, n }),
         (0.5..15.0f64).prop_map(Part::Iris),
         prop_oneof![-600.0..-50.0f64, 50.0..600.0f64].prop_map(Part::Mirror),
@@ -34,9 +39,15 @@ fn build(parts: &[(Part, f64)], semi: f64) -> System {
         match *p {
             Part::Ideal(f) => surfaces.push(Surface::ideal_lens(z, f).with_semi_aperture(semi).in_element(i)),
             Part::Singlet { r1, r2, t, n } => {
-                surfaces.push(Surface::refracting(z, Shape::sphere(r1), Material::Abbe { nd: n, vd: 50.0 }).with_semi_aperture(semi).in_element(i));
+                surfaces.push(
+                    Surface::refracting(z, Shape::sphere(r1), Material::Abbe { nd: n, vd: 50.0 })
+                        .with_semi_aperture(semi)
+                        .in_element(i),
+                );
                 z += t;
-                surfaces.push(Surface::refracting(z, Shape::sphere(r2), Material::AIR).with_semi_aperture(semi).in_element(i));
+                surfaces.push(
+                    Surface::refracting(z, Shape::sphere(r2), Material::AIR).with_semi_aperture(semi).in_element(i),
+                );
             }
             Part::Iris(a) => surfaces.push(Surface::aperture(z, a).in_element(i)),
             Part::Mirror(r) => {
@@ -122,7 +133,7 @@ proptest! {
         }
         let mut batch = RayBatch::with_capacity(1);
         batch.push(Ray::at_angle(y, 0.0, angle));
-        trace_batch(&seq, &mut batch);
+        trace_batch_portable(&seq, &mut batch);
         prop_assert_eq!(batch.outcome(0), path.outcome);
     }
 }

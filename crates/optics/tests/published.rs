@@ -24,10 +24,7 @@ fn seq(surfaces: Vec<Surface>) -> Sequence {
 /// A singlet of index n: front radius r1 at z, thickness t, back radius r2 (`None` = flat).
 fn singlet(z: f64, r1: Option<f64>, r2: Option<f64>, t: f64, n: f64) -> Vec<Surface> {
     let shape = |r: Option<f64>| r.map_or(Shape::Flat, Shape::sphere);
-    vec![
-        Surface::refracting(z, shape(r1), Material::Constant(n)),
-        Surface::refracting(z + t, shape(r2), Material::AIR),
-    ]
+    vec![Surface::refracting(z, shape(r1), Material::Constant(n)), Surface::refracting(z + t, shape(r2), Material::AIR)]
 }
 
 /// Ball lens: EFL = nD/(4(n − 1)), principal planes at the centre, BFL = EFL − D/2 (Hecht, *Optics*;
@@ -62,7 +59,9 @@ fn plano_convex_both_ways() {
 /// planes h' = −f(n−1)d/(nR₁) from the back vertex, h = −f(n−1)d/(nR₂) from the front vertex (Hecht).
 #[test]
 fn thick_lens_lensmaker() {
-    for &(r1, r2, d, n) in &[(40.0, -60.0, 8.0, 1.62), (30.0, 80.0, 5.0, 1.5), (-50.0, -20.0, 6.0, 1.75), (100.0, -100.0, 12.0, 1.4585)] {
+    for &(r1, r2, d, n) in
+        &[(40.0, -60.0, 8.0, 1.62), (30.0, 80.0, 5.0, 1.5), (-50.0, -20.0, 6.0, 1.75), (100.0, -100.0, 12.0, 1.4585)]
+    {
         let z0 = 200.0;
         let s = seq(singlet(z0, Some(r1), Some(r2), d, n));
         let fo = FirstOrder::of(&s).unwrap();
@@ -89,7 +88,8 @@ fn stronger_curvature_shorter_focus() {
 #[test]
 fn two_lens_formula() {
     for &(f1, f2, d) in &[(100.0, 50.0, 30.0), (200.0, -75.0, 60.0), (-40.0, 80.0, 10.0)] {
-        let s = seq(vec![Surface::ideal_lens(100.0, f1).in_element(0), Surface::ideal_lens(100.0 + d, f2).in_element(1)]);
+        let s =
+            seq(vec![Surface::ideal_lens(100.0, f1).in_element(0), Surface::ideal_lens(100.0 + d, f2).in_element(1)]);
         let f = 1.0 / (1.0 / f1 + 1.0 / f2 - d / (f1 * f2));
         assert!(rel(FirstOrder::of(&s).unwrap().efl_mm.unwrap(), f) < 1e-13);
     }
@@ -173,11 +173,17 @@ fn paraboloidal_mirror_focuses_perfectly() {
 #[test]
 fn critical_angle() {
     let n = 1.5;
-    let system = System { object_medium: Material::Constant(n), surfaces: vec![Surface::refracting(10.0, Shape::Flat, Material::AIR)] };
+    let system = System {
+        object_medium: Material::Constant(n),
+        surfaces: vec![Surface::refracting(10.0, Shape::Flat, Material::AIR)],
+    };
     let s = system.at(D_NM).unwrap();
     let theta_c = (1.0 / n).asin();
     assert!(trace(&s, Ray::at_angle(0.0, 0.0, theta_c - 1e-9)).is_ok());
-    assert_eq!(trace(&s, Ray::at_angle(0.0, 0.0, theta_c + 1e-9)), Err(RayError::TotalInternalReflection { surface: 0 }));
+    assert_eq!(
+        trace(&s, Ray::at_angle(0.0, 0.0, theta_c + 1e-9)),
+        Err(RayError::TotalInternalReflection { surface: 0 })
+    );
 }
 
 /// Ray reversibility: a ray traced through a lens and sent back along its own path returns to its start
@@ -244,11 +250,15 @@ fn thin_lens_spherical_aberration() {
         let q = (r2 + r1) / (r2 - r1);
         let p = if s_obj.is_infinite() { -1.0 } else { (s_img + s_obj) / (s_img - s_obj) };
         let coefficient = 1.0 / (8.0 * f.powi(3) * n * (n - 1.0))
-            * ((n + 2.0) / (n - 1.0) * q * q + 4.0 * (n + 1.0) * p * q + (3.0 * n + 2.0) * (n - 1.0) * p * p + n.powi(3) / (n - 1.0));
+            * ((n + 2.0) / (n - 1.0) * q * q
+                + 4.0 * (n + 1.0) * p * q
+                + (3.0 * n + 2.0) * (n - 1.0) * p * p
+                + n.powi(3) / (n - 1.0));
         // Exact: 1/s'_h − 1/s'_p = a h² + b h⁴ + …; Richardson on h and h/2 leaves O(h⁶). At h = 1 mm the
         // subtraction keeps about 9 of 16 digits, so the comparison holds to 1e-6 relative.
         let delta = |h: f64| {
-            let start = if s_obj.is_infinite() { Ray::at_angle(h, -10.0, 0.0) } else { Ray::towards(0.0, s_obj, h, 0.0) };
+            let start =
+                if s_obj.is_infinite() { Ray::at_angle(h, -10.0, 0.0) } else { Ray::towards(0.0, s_obj, h, 0.0) };
             let out = trace(&lens, start).unwrap();
             1.0 / out.axis_crossing_mm().unwrap() - 1.0 / s_img
         };
@@ -258,7 +268,11 @@ fn thin_lens_spherical_aberration() {
         // Seidel: the transverse aberration at the paraxial focus is ε = S_I/(2n'u') for the marginal ray
         // of height h at the lens; longitudinally δ(1/s') = −ε/(s'²u')… compare with the exact trace at a
         // tiny aperture instead: LSA ≈ −ε/u'.
-        let object = if s_obj.is_infinite() { Object::Distant { field_deg: 0.0, beam_diameter_mm: 2.0 * h } } else { Object::Finite { z_mm: s_obj, height_mm: 0.0 } };
+        let object = if s_obj.is_infinite() {
+            Object::Distant { field_deg: 0.0, beam_diameter_mm: 2.0 * h }
+        } else {
+            Object::Finite { z_mm: s_obj, height_mm: 0.0 }
+        };
         let sized = if s_obj.is_infinite() {
             lens.clone()
         } else {
@@ -267,7 +281,15 @@ fn thin_lens_spherical_aberration() {
             l
         };
         let pupils = Pupils::find(&sized, &object).unwrap();
-        let sd = seidel(&sized, &pupils.marginal, pupils.marginal_start.1, &pupils.chief, pupils.chief_start.1, &sized, &sized);
+        let sd = seidel(
+            &sized,
+            &pupils.marginal,
+            pupils.marginal_start.1,
+            &pupils.chief,
+            pupils.chief_start.1,
+            &sized,
+            &sized,
+        );
         let u1 = pupils.marginal.last().unwrap().nu;
         let eps = sd.total.spherical / (2.0 * u1);
         let lsa_third_order = -eps / u1;
@@ -303,7 +325,10 @@ fn plain_facts_of_imaging() {
 /// radius at the Gaussian image (exact, to rounding).
 #[test]
 fn ideal_lens_spot_is_a_point() {
-    let system = System { object_medium: Material::AIR, surfaces: vec![Surface::ideal_lens(200.0, 80.0).with_semi_aperture(12.7)] };
+    let system = System {
+        object_medium: Material::AIR,
+        surfaces: vec![Surface::ideal_lens(200.0, 80.0).with_semi_aperture(12.7)],
+    };
     let request = Request {
         object: Object::Finite { z_mm: 0.0, height_mm: 3.0 },
         wavelengths_nm: vec![D_NM],
@@ -331,7 +356,8 @@ fn ideal_lens_spot_is_a_point() {
 /// has higher orders too, so the check uses a slow beam where fifth order is below 1e-4 of third.
 #[test]
 fn rms_of_third_order_spherical_aberration() {
-    let system = System { object_medium: Material::AIR, surfaces: vec![Surface::mirror(1000.0, Shape::sphere(-2000.0))] };
+    let system =
+        System { object_medium: Material::AIR, surfaces: vec![Surface::mirror(1000.0, Shape::sphere(-2000.0))] };
     let request = Request {
         object: Object::Distant { field_deg: 0.0, beam_diameter_mm: 40.0 },
         wavelengths_nm: vec![D_NM],
@@ -344,9 +370,17 @@ fn rms_of_third_order_spherical_aberration() {
     let paraxial_focus = a.images.last().unwrap().at_mm.unwrap();
     // Exact transverse aberration of the edge ray at the paraxial focus gives a.
     let edge = spot.marginal.height_at(paraxial_focus).abs();
-    let s = System { object_medium: Material::AIR, surfaces: vec![Surface::mirror(1000.0, Shape::sphere(-2000.0))] }.at(D_NM).unwrap();
+    let s = System { object_medium: Material::AIR, surfaces: vec![Surface::mirror(1000.0, Shape::sphere(-2000.0))] }
+        .at(D_NM)
+        .unwrap();
     let rms_paraxial = {
-        let planes = lumenrail_optics::spot::spot_figures(&s, request.object, &Pupils::find(&s, &request.object).unwrap(), &[paraxial_focus]).unwrap();
+        let planes = lumenrail_optics::spot::spot_figures(
+            &s,
+            request.object,
+            &Pupils::find(&s, &request.object).unwrap(),
+            &[paraxial_focus],
+        )
+        .unwrap();
         planes.planes[0].1
     };
     assert!(rel(rms_paraxial, edge / 2.0) < 2e-4);

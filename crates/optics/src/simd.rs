@@ -1,0 +1,383 @@
+//! Lanes of f64: the one arithmetic vocabulary the ray kernel is written in, implemented for a plain f64
+//! (single rays), for SSE2 pairs (the portable x86-64 build) and for AVX2+FMA quadruples (chosen at run
+//! time). The kernel is written once, generic over [`Lane`], so every build traces with the same formulas.
+
+use std::ops::{Add, BitAnd, BitOr, Div, Mul, Neg, Not, Sub};
+
+/// A vector of f64 lanes with lane-wise arithmetic, comparisons and selection.
+pub(crate) trait Lane:
+    Copy + Add<Output = Self> + Sub<Output = Self> + Mul<Output = Self> + Div<Output = Self> + Neg<Output = Self>
+{
+    /// Lane-wise truth values.
+    type Mask: Copy + BitAnd<Output = Self::Mask> + BitOr<Output = Self::Mask> + Not<Output = Self::Mask>;
+    /// How many f64 values one lane vector holds.
+    const WIDTH: usize;
+    /// Every lane set to `v`.
+    fn splat(v: f64) -> Self;
+    /// Loads `WIDTH` values from the front of `s`.
+    fn load(s: &[f64]) -> Self;
+    /// Stores `WIDTH` values to the front of `s`.
+    fn store(self, s: &mut [f64]);
+    /// Square root.
+    fn sqrt(self) -> Self;
+    /// Absolute value.
+    fn abs(self) -> Self;
+    /// The magnitude of `self` with the sign of `sign`.
+    fn copysign(self, sign: Self) -> Self;
+    /// `self · b + c`, fused where the lane type has fused multiply-add.
+    fn mul_add(self, b: Self, c: Self) -> Self;
+    /// `self < o`.
+    fn lt(self, o: Self) -> Self::Mask;
+    /// `self <= o`.
+    fn le(self, o: Self) -> Self::Mask;
+    /// `self > o`.
+    fn gt(self, o: Self) -> Self::Mask;
+    /// `self >= o`.
+    fn ge(self, o: Self) -> Self::Mask;
+    /// `self == o`.
+    fn eq(self, o: Self) -> Self::Mask;
+    /// `a` where `m`, else `b`.
+    fn select(m: Self::Mask, a: Self, b: Self) -> Self;
+    /// `self` where it is above zero, else +0 (also for NaN).
+    fn max0(self) -> Self;
+    /// `v` where `m`, else +0 (one bitwise AND, cheaper than a select).
+    fn only(m: Self::Mask, v: Self) -> Self;
+    /// The sum of two lane vectors of which at least one is zero in every lane (a bitwise OR).
+    fn either(self, o: Self) -> Self;
+}
+
+impl Lane for f64 {
+    type Mask = bool;
+    const WIDTH: usize = 1;
+    #[inline(always)]
+    fn splat(v: f64) -> f64 {
+        v
+    }
+    #[inline(always)]
+    fn load(s: &[f64]) -> f64 {
+        s[0]
+    }
+    #[inline(always)]
+    fn store(self, s: &mut [f64]) {
+        s[0] = self;
+    }
+    #[inline(always)]
+    fn sqrt(self) -> f64 {
+        f64::sqrt(self)
+    }
+    #[inline(always)]
+    fn abs(self) -> f64 {
+        f64::abs(self)
+    }
+    #[inline(always)]
+    fn copysign(self, sign: f64) -> f64 {
+        f64::copysign(self, sign)
+    }
+    #[inline(always)]
+    fn mul_add(self, b: f64, c: f64) -> f64 {
+        // Not fused: single rays must agree bit for bit with the portable batch.
+        self * b + c
+    }
+    #[inline(always)]
+    fn lt(self, o: f64) -> bool {
+        self < o
+    }
+    #[inline(always)]
+    fn le(self, o: f64) -> bool {
+        self <= o
+    }
+    #[inline(always)]
+    fn gt(self, o: f64) -> bool {
+        self > o
+    }
+    #[inline(always)]
+    fn ge(self, o: f64) -> bool {
+        self >= o
+    }
+    #[inline(always)]
+    fn eq(self, o: f64) -> bool {
+        #[allow(clippy::float_cmp)] // Lane-wise equality is what is asked for.
+        let e = self == o;
+        e
+    }
+    #[inline(always)]
+    fn select(m: bool, a: f64, b: f64) -> f64 {
+        if m { a } else { b }
+    }
+    #[inline(always)]
+    fn max0(self) -> f64 {
+        if self > 0.0 { self } else { 0.0 }
+    }
+    #[inline(always)]
+    fn only(m: bool, v: f64) -> f64 {
+        if m { v } else { 0.0 }
+    }
+    #[inline(always)]
+    fn either(self, o: f64) -> f64 {
+        f64::from_bits(self.to_bits() | o.to_bits())
+    }
+}
+
+#[cfg(target_arch = "x86_64")]
+pub(crate) use x86::{F64x2, F64x4};
+
+#[cfg(target_arch = "x86_64")]
+mod x86 {
+    use super::Lane;
+    use std::arch::x86_64::*;
+    use std::ops::{Add, BitAnd, BitOr, Div, Mul, Neg, Not, Sub};
+
+    /// Two f64 lanes in an SSE2 register (every x86-64 processor has SSE2).
+    #[derive(Clone, Copy)]
+    pub(crate) struct F64x2(__m128d);
+
+    /// A mask of two lanes: all bits set where true.
+    #[derive(Clone, Copy)]
+    pub(crate) struct M64x2(__m128d);
+
+    macro_rules! binary {
+        ($ty:ident, $tr:ident, $f:ident, $intr:ident) => {
+            impl $tr for $ty {
+                type Output = $ty;
+                #[inline(always)]
+                fn $f(self, o: $ty) -> $ty {
+                    // SAFETY: the intrinsic's target feature is enabled wherever this lane type is used
+                    // (SSE2 always on x86-64; AVX2 and FMA only inside functions compiled for them).
+                    #[allow(unused_unsafe)]
+                    unsafe {
+                        $ty($intr(self.0, o.0))
+                    }
+                }
+            }
+        };
+    }
+
+    binary!(F64x2, Add, add, _mm_add_pd);
+    binary!(F64x2, Sub, sub, _mm_sub_pd);
+    binary!(F64x2, Mul, mul, _mm_mul_pd);
+    binary!(F64x2, Div, div, _mm_div_pd);
+    binary!(M64x2, BitAnd, bitand, _mm_and_pd);
+    binary!(M64x2, BitOr, bitor, _mm_or_pd);
+
+    impl Neg for F64x2 {
+        type Output = F64x2;
+        #[inline(always)]
+        fn neg(self) -> F64x2 {
+            // SAFETY: SSE2 is part of every x86-64 processor.
+            unsafe { F64x2(_mm_xor_pd(self.0, _mm_set1_pd(-0.0))) }
+        }
+    }
+
+    impl Not for M64x2 {
+        type Output = M64x2;
+        #[inline(always)]
+        fn not(self) -> M64x2 {
+            // SAFETY: SSE2 is part of every x86-64 processor.
+            unsafe { M64x2(_mm_xor_pd(self.0, _mm_castsi128_pd(_mm_set1_epi64x(-1)))) }
+        }
+    }
+
+    impl Lane for F64x2 {
+        type Mask = M64x2;
+        const WIDTH: usize = 2;
+        #[inline(always)]
+        fn splat(v: f64) -> F64x2 {
+            // SAFETY: SSE2 is part of every x86-64 processor.
+            unsafe { F64x2(_mm_set1_pd(v)) }
+        }
+        #[inline(always)]
+        fn load(s: &[f64]) -> F64x2 {
+            assert!(s.len() >= 2);
+            // SAFETY: two values are in bounds (checked above); unaligned loads are allowed.
+            F64x2(unsafe { _mm_loadu_pd(s.as_ptr()) })
+        }
+        #[inline(always)]
+        fn store(self, s: &mut [f64]) {
+            assert!(s.len() >= 2);
+            // SAFETY: two values are in bounds (checked above).
+            unsafe { _mm_storeu_pd(s.as_mut_ptr(), self.0) }
+        }
+        #[inline(always)]
+        fn sqrt(self) -> F64x2 {
+            // SAFETY: SSE2 is part of every x86-64 processor.
+            unsafe { F64x2(_mm_sqrt_pd(self.0)) }
+        }
+        #[inline(always)]
+        fn abs(self) -> F64x2 {
+            // SAFETY: SSE2 is part of every x86-64 processor.
+            unsafe { F64x2(_mm_andnot_pd(_mm_set1_pd(-0.0), self.0)) }
+        }
+        #[inline(always)]
+        fn copysign(self, sign: F64x2) -> F64x2 {
+            // SAFETY: SSE2 is part of every x86-64 processor.
+            unsafe {
+                let s = _mm_set1_pd(-0.0);
+                F64x2(_mm_or_pd(_mm_andnot_pd(s, self.0), _mm_and_pd(s, sign.0)))
+            }
+        }
+        #[inline(always)]
+        fn mul_add(self, b: F64x2, c: F64x2) -> F64x2 {
+            self * b + c
+        }
+        #[inline(always)]
+        fn lt(self, o: F64x2) -> M64x2 {
+            // SAFETY: SSE2 is part of every x86-64 processor.
+            unsafe { M64x2(_mm_cmplt_pd(self.0, o.0)) }
+        }
+        #[inline(always)]
+        fn le(self, o: F64x2) -> M64x2 {
+            // SAFETY: SSE2 is part of every x86-64 processor.
+            unsafe { M64x2(_mm_cmple_pd(self.0, o.0)) }
+        }
+        #[inline(always)]
+        fn gt(self, o: F64x2) -> M64x2 {
+            // SAFETY: SSE2 is part of every x86-64 processor.
+            unsafe { M64x2(_mm_cmpgt_pd(self.0, o.0)) }
+        }
+        #[inline(always)]
+        fn ge(self, o: F64x2) -> M64x2 {
+            // SAFETY: SSE2 is part of every x86-64 processor.
+            unsafe { M64x2(_mm_cmpge_pd(self.0, o.0)) }
+        }
+        #[inline(always)]
+        fn eq(self, o: F64x2) -> M64x2 {
+            // SAFETY: SSE2 is part of every x86-64 processor.
+            unsafe { M64x2(_mm_cmpeq_pd(self.0, o.0)) }
+        }
+        #[inline(always)]
+        fn max0(self) -> F64x2 {
+            // SAFETY: SSE2 is part of every x86-64 processor. maxpd returns its second operand (+0)
+            // when the first is NaN or ±0, as the scalar form does.
+            unsafe { F64x2(_mm_max_pd(self.0, _mm_setzero_pd())) }
+        }
+        #[inline(always)]
+        fn only(m: M64x2, v: F64x2) -> F64x2 {
+            // SAFETY: SSE2 is part of every x86-64 processor.
+            unsafe { F64x2(_mm_and_pd(m.0, v.0)) }
+        }
+        #[inline(always)]
+        fn either(self, o: F64x2) -> F64x2 {
+            // SAFETY: SSE2 is part of every x86-64 processor.
+            unsafe { F64x2(_mm_or_pd(self.0, o.0)) }
+        }
+        #[inline(always)]
+        fn select(m: M64x2, a: F64x2, b: F64x2) -> F64x2 {
+            // SAFETY: SSE2 is part of every x86-64 processor.
+            unsafe { F64x2(_mm_or_pd(_mm_and_pd(m.0, a.0), _mm_andnot_pd(m.0, b.0))) }
+        }
+    }
+
+    /// Four f64 lanes in an AVX register, with fused multiply-add. Use only inside functions compiled with
+    /// `#[target_feature(enable = "avx2,fma")]`, after checking the processor.
+    #[derive(Clone, Copy)]
+    pub(crate) struct F64x4(__m256d);
+
+    /// A mask of four lanes: all bits set where true.
+    #[derive(Clone, Copy)]
+    pub(crate) struct M64x4(__m256d);
+
+    binary!(F64x4, Add, add, _mm256_add_pd);
+    binary!(F64x4, Sub, sub, _mm256_sub_pd);
+    binary!(F64x4, Mul, mul, _mm256_mul_pd);
+    binary!(F64x4, Div, div, _mm256_div_pd);
+    binary!(M64x4, BitAnd, bitand, _mm256_and_pd);
+    binary!(M64x4, BitOr, bitor, _mm256_or_pd);
+
+    impl Neg for F64x4 {
+        type Output = F64x4;
+        #[inline(always)]
+        fn neg(self) -> F64x4 {
+            // SAFETY: see `binary!`.
+            unsafe { F64x4(_mm256_xor_pd(self.0, _mm256_set1_pd(-0.0))) }
+        }
+    }
+
+    impl Not for M64x4 {
+        type Output = M64x4;
+        #[inline(always)]
+        fn not(self) -> M64x4 {
+            // SAFETY: see `binary!`.
+            unsafe { M64x4(_mm256_xor_pd(self.0, _mm256_castsi256_pd(_mm256_set1_epi64x(-1)))) }
+        }
+    }
+
+    macro_rules! cmp4 {
+        ($f:ident, $pred:ident) => {
+            #[inline(always)]
+            fn $f(self, o: F64x4) -> M64x4 {
+                // SAFETY: see `binary!`.
+                unsafe { M64x4(_mm256_cmp_pd::<$pred>(self.0, o.0)) }
+            }
+        };
+    }
+
+    impl Lane for F64x4 {
+        type Mask = M64x4;
+        const WIDTH: usize = 4;
+        #[inline(always)]
+        fn splat(v: f64) -> F64x4 {
+            // SAFETY: see `binary!`.
+            unsafe { F64x4(_mm256_set1_pd(v)) }
+        }
+        #[inline(always)]
+        fn load(s: &[f64]) -> F64x4 {
+            assert!(s.len() >= 4);
+            // SAFETY: four values are in bounds (checked above); see `binary!` for the feature.
+            unsafe { F64x4(_mm256_loadu_pd(s.as_ptr())) }
+        }
+        #[inline(always)]
+        fn store(self, s: &mut [f64]) {
+            assert!(s.len() >= 4);
+            // SAFETY: four values are in bounds (checked above); see `binary!` for the feature.
+            unsafe { _mm256_storeu_pd(s.as_mut_ptr(), self.0) }
+        }
+        #[inline(always)]
+        fn sqrt(self) -> F64x4 {
+            // SAFETY: see `binary!`.
+            unsafe { F64x4(_mm256_sqrt_pd(self.0)) }
+        }
+        #[inline(always)]
+        fn abs(self) -> F64x4 {
+            // SAFETY: see `binary!`.
+            unsafe { F64x4(_mm256_andnot_pd(_mm256_set1_pd(-0.0), self.0)) }
+        }
+        #[inline(always)]
+        fn copysign(self, sign: F64x4) -> F64x4 {
+            // SAFETY: see `binary!`.
+            unsafe {
+                let s = _mm256_set1_pd(-0.0);
+                F64x4(_mm256_or_pd(_mm256_andnot_pd(s, self.0), _mm256_and_pd(s, sign.0)))
+            }
+        }
+        #[inline(always)]
+        fn mul_add(self, b: F64x4, c: F64x4) -> F64x4 {
+            // SAFETY: see `binary!`.
+            unsafe { F64x4(_mm256_fmadd_pd(self.0, b.0, c.0)) }
+        }
+        cmp4!(lt, _CMP_LT_OQ);
+        cmp4!(le, _CMP_LE_OQ);
+        cmp4!(gt, _CMP_GT_OQ);
+        cmp4!(ge, _CMP_GE_OQ);
+        cmp4!(eq, _CMP_EQ_OQ);
+        #[inline(always)]
+        fn max0(self) -> F64x4 {
+            // SAFETY: see `binary!`. maxpd returns its second operand (+0) when the first is NaN or ±0.
+            unsafe { F64x4(_mm256_max_pd(self.0, _mm256_setzero_pd())) }
+        }
+        #[inline(always)]
+        fn only(m: M64x4, v: F64x4) -> F64x4 {
+            // SAFETY: see `binary!`.
+            unsafe { F64x4(_mm256_and_pd(m.0, v.0)) }
+        }
+        #[inline(always)]
+        fn either(self, o: F64x4) -> F64x4 {
+            // SAFETY: see `binary!`.
+            unsafe { F64x4(_mm256_or_pd(self.0, o.0)) }
+        }
+        #[inline(always)]
+        fn select(m: M64x4, a: F64x4, b: F64x4) -> F64x4 {
+            // SAFETY: see `binary!`.
+            unsafe { F64x4(_mm256_blendv_pd(b.0, a.0, m.0)) }
+        }
+    }
+}
