@@ -1,4 +1,135 @@
 //! The `lumenrail` command: lay out optical benches and ray-trace them exactly.
-fn main() {
-    println!("lumenrail {}", env!("CARGO_PKG_VERSION"));
+//!
+//! Exit codes: 0 success; 1 the bench is valid but cannot be traced as asked (the report says why); 2 bad
+//! input.
+
+use clap::{Parser, Subcommand};
+use lumenrail_bench::{demos, file, report::Report};
+use lumenrail_optics::library;
+use std::io::Write;
+use std::path::PathBuf;
+use std::process::ExitCode;
+
+const SAFETY: &str = "\
+Safety: Lumenrail plans benches; it does not certify them. Laser beams and their stray reflections can
+injure eyes: follow the laser's hazard class (IEC 60825-1 / ANSI Z136) and your laser safety officer. Never
+look at the sun through any optic; lenses that concentrate sunlight or lamp light burn and start fires; lamps
+get hot. For anything about eyes or eyewear, ask an eye-care professional.";
+
+/// Lay out optical benches and ray-trace them exactly.
+#[derive(Parser)]
+#[command(name = "lumenrail", version, about, after_help = SAFETY)]
+struct Cli {
+    #[command(subcommand)]
+    command: Option<Command>,
+}
+
+#[derive(Subcommand)]
+enum Command {
+    /// Print every figure of a bench: first order, stop and pupils, images, screen spots, aberrations.
+    Report {
+        /// The bench file (.bench.ron).
+        file: PathBuf,
+        /// Print JSON for a script instead of text for a person.
+        #[arg(long)]
+        json: bool,
+    },
+    /// Validate a bench file: exit 0 when valid, 2 with `file:line:col: message` when not.
+    Check {
+        /// The bench file (.bench.ron).
+        file: PathBuf,
+    },
+    /// List the built-in demo benches, or print one: `lumenrail demos NAME > my.bench.ron`.
+    Demos {
+        /// The demo to print.
+        name: Option<String>,
+    },
+    /// List the built-in materials with their published sources.
+    Materials,
+}
+
+fn main() -> ExitCode {
+    let cli = Cli::parse();
+    match cli.command {
+        None => {
+            let mut cmd = <Cli as clap::CommandFactory>::command();
+            let _ = cmd.print_help();
+            println!("\nThe desktop workbench is not built yet; `lumenrail demos` lists benches to report on.");
+            ExitCode::SUCCESS
+        }
+        Some(Command::Report { file, json }) => report(&file, json),
+        Some(Command::Check { file }) => check(&file),
+        Some(Command::Demos { name }) => demos_cmd(name.as_deref()),
+        Some(Command::Materials) => {
+            for e in library::entries() {
+                println!("{:<18} {}\n{:<18} source: {}", e.name, e.description, "", e.source);
+            }
+            ExitCode::SUCCESS
+        }
+    }
+}
+
+fn print_diagnostics(ds: &[file::Diagnostic]) {
+    let mut err = std::io::stderr().lock();
+    for d in ds {
+        let _ = writeln!(err, "{d}");
+    }
+}
+
+fn report(path: &std::path::Path, json: bool) -> ExitCode {
+    let loaded = match file::load(path) {
+        Ok(l) => l,
+        Err(e) => {
+            print_diagnostics(&e.diagnostics);
+            return ExitCode::from(2);
+        }
+    };
+    print_diagnostics(&loaded.warnings);
+    let report = Report::of(&loaded.bench);
+    let text = if json { report.to_json() } else { report.to_text() };
+    let mut out = std::io::stdout().lock();
+    let _ = writeln!(out, "{text}");
+    if let Some(why) = &report.trace_failure {
+        eprintln!("{}: cannot trace as asked: {why}", path.display());
+        return ExitCode::from(1);
+    }
+    ExitCode::SUCCESS
+}
+
+fn check(path: &std::path::Path) -> ExitCode {
+    match file::load(path) {
+        Ok(l) => {
+            print_diagnostics(&l.warnings);
+            println!("{}: valid ({} parts, {} warnings)", path.display(), l.bench.parts.len(), l.warnings.len());
+            ExitCode::SUCCESS
+        }
+        Err(e) => {
+            print_diagnostics(&e.diagnostics);
+            ExitCode::from(2)
+        }
+    }
+}
+
+fn demos_cmd(name: Option<&str>) -> ExitCode {
+    match name {
+        None => {
+            for d in demos::DEMOS {
+                println!("{:<28} {}", d.name, d.summary());
+            }
+            ExitCode::SUCCESS
+        }
+        Some(n) => match demos::find(n) {
+            Some(d) => {
+                print!("{}", d.text);
+                ExitCode::SUCCESS
+            }
+            None => {
+                let mut near: Vec<(usize, &str)> =
+                    demos::DEMOS.iter().map(|d| (library::edit_distance(n, d.name), d.name)).collect();
+                near.sort();
+                eprintln!("no demo is named \"{n}\"; did you mean \"{}\"? (`lumenrail demos` lists them)", near[0].1);
+                ExitCode::from(2)
+            }
+        },
+    }
 }

@@ -1,1 +1,16 @@
-//! placeholder
+//! The Lumenrail bench document: parts, object, wavelengths; its file format; validation; compiling it for
+//! the optics core; and the one report that every view reads.
+//!
+//! ```
+//! let text = lumenrail_bench::demos::find("one-lens-screen").unwrap().text;
+//! let loaded = lumenrail_bench::file::parse("demo", text).unwrap();
+//! let report = lumenrail_bench::report::Report::of(&loaded.bench);
+//! assert!(report.images.last().unwrap().real);
+//! ```
+
+pub mod compile;
+pub mod demos;
+pub mod file;
+pub mod model;
+pub mod report;
+pub mod validate;

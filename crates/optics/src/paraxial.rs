@@ -270,10 +270,13 @@ fn image_after(seq: &Sequence, object: &Object, i: usize, a: &ParaxialRay, b: &P
         let before_next = seq.steps.get(i + 1).is_none_or(|next| (next.z_mm - z) * step.dir_after > 0.0);
         ahead && before_next
     });
+    // Seen from the image side, an erect image of an object above the axis lies above it: its rays travel
+    // downward towards the viewer when the image is at infinity.
+    let reference_slope = -field_scale;
     let erect = match (object, magnification, height) {
         (_, Some(m), _) => m > 0.0,
-        (Object::Distant { field_deg, .. }, None, Some(h)) => h * field_deg > 0.0,
-        _ => false,
+        (Object::Distant { .. }, None, Some(h)) => h * field_scale > 0.0,
+        _ => b.nu / n1.abs() * step.dir_after * reference_slope > 0.0,
     };
     ParaxialImage { after_surface: i, element: step.element, at_mm: at, magnification, height_mm: height, real, erect }
 }

@@ -1,0 +1,334 @@
+//! Reading and writing bench files (RON, format 1), with every error placed at a file, line and column.
+//!
+//! Loading reads bytes, checks size and UTF-8, refuses a newer `format` before anything else is read,
+//! parses with unknown fields refused, then validates. Saving writes the parts in rail order to a
+//! temporary file beside the target and renames it over the target, so a failed save leaves the old file
+//! intact.
+
+use crate::model::{Bench, FORMAT};
+use crate::validate::{Finding, Severity, validate};
+use serde::Deserialize;
+use std::fmt;
+use std::path::{Path, PathBuf};
+
+/// The largest bench file accepted, bytes (a bench with hundreds of parts is a few tens of kB).
+pub const MAX_FILE_BYTES: u64 = 4 * 1024 * 1024;
+
+/// A place in a file: 1-based line and column.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub struct Place {
+    /// Line, from 1.
+    pub line: usize,
+    /// Column (characters), from 1.
+    pub col: usize,
+}
+
+/// One problem with a bench file, placed.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Diagnostic {
+    /// The file as named by the user.
+    pub file: String,
+    /// Where in it.
+    pub place: Place,
+    /// Error or warning.
+    pub severity: Severity,
+    /// What is wrong.
+    pub message: String,
+}
+
+impl fmt::Display for Diagnostic {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        let kind = if self.severity == Severity::Warning { "warning: " } else { "" };
+        write!(f, "{}:{}:{}: {kind}{}", self.file, self.place.line, self.place.col, self.message)
+    }
+}
+
+/// Why a bench could not be loaded: one or more placed errors.
+#[derive(Debug, Clone, PartialEq)]
+pub struct LoadError {
+    /// The errors (and any warnings found beside them).
+    pub diagnostics: Vec<Diagnostic>,
+}
+
+impl fmt::Display for LoadError {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        for (k, d) in self.diagnostics.iter().enumerate() {
+            if k > 0 {
+                writeln!(f)?;
+            }
+            write!(f, "{d}")?;
+        }
+        Ok(())
+    }
+}
+
+impl std::error::Error for LoadError {}
+
+/// A loaded, valid bench with the warnings validation found.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Loaded {
+    /// The bench.
+    pub bench: Bench,
+    /// Warnings, placed.
+    pub warnings: Vec<Diagnostic>,
+}
+
+fn at_start(file: &str, message: String) -> LoadError {
+    LoadError { diagnostics: vec![Diagnostic { file: file.into(), place: Place { line: 1, col: 1 }, severity: Severity::Error, message }] }
+}
+
+/// Reads and validates the bench file at `path`.
+pub fn load(path: &Path) -> Result<Loaded, LoadError> {
+    let name = path.display().to_string();
+    let meta = std::fs::metadata(path).map_err(|e| at_start(&name, format!("cannot read the file: {}", io_words(&e))))?;
+    if meta.is_dir() {
+        return Err(at_start(&name, "this is a directory, not a bench file".into()));
+    }
+    if meta.len() > MAX_FILE_BYTES {
+        return Err(at_start(
+            &name,
+            format!("the file is {} bytes; a bench file is at most {} bytes, so this is not one", meta.len(), MAX_FILE_BYTES),
+        ));
+    }
+    let bytes = std::fs::read(path).map_err(|e| at_start(&name, format!("cannot read the file: {}", io_words(&e))))?;
+    let text = match String::from_utf8(bytes) {
+        Ok(t) => t,
+        Err(e) => {
+            let good = &e.as_bytes()[..e.utf8_error().valid_up_to()];
+            let good = std::str::from_utf8(good).unwrap_or("");
+            let place = place_of_offset(good, good.len());
+            return Err(LoadError {
+                diagnostics: vec![Diagnostic {
+                    file: name,
+                    place,
+                    severity: Severity::Error,
+                    message: "the file is not UTF-8 text here (a bench file is plain text)".into(),
+                }],
+            });
+        }
+    };
+    parse(&name, &text)
+}
+
+/// Parses and validates bench text; `file` names it in messages.
+pub fn parse(file: &str, text: &str) -> Result<Loaded, LoadError> {
+    if text.trim().is_empty() {
+        return Err(at_start(file, "the file is empty; a bench file starts with `(` and holds format, title, rail_length_mm, wavelengths_nm, primary_wavelength, object and parts".into()));
+    }
+    // Refuse a newer format before reading anything else, so that new fields are never misread.
+    #[derive(Deserialize)]
+    struct Probe {
+        format: Option<i64>,
+    }
+    if let Ok(Probe { format: Some(f) }) = ron::from_str::<Probe>(text)
+        && f != i64::from(FORMAT)
+    {
+        let place = Locator::new(text).key(0, text.len(), "format").unwrap_or(Place { line: 1, col: 1 });
+        let message = if f > i64::from(FORMAT) {
+            format!("this bench is format {f}, newer than this Lumenrail reads (format {FORMAT}); open it with a newer Lumenrail")
+        } else {
+            format!("format {f} is not a bench format (this Lumenrail reads format {FORMAT})")
+        };
+        return Err(LoadError { diagnostics: vec![Diagnostic { file: file.into(), place, severity: Severity::Error, message }] });
+    }
+    let bench: Bench = ron::Options::default().with_recursion_limit(64).from_str(text).map_err(|e| LoadError {
+        diagnostics: vec![Diagnostic {
+            file: file.into(),
+            place: Place { line: e.position.line.max(1), col: e.position.col.max(1) },
+            severity: Severity::Error,
+            message: ron_words(&e.code),
+        }],
+    })?;
+    let findings = validate(&bench);
+    let locator = Locator::new(text);
+    let place = |f: &Finding| locator.finding(&bench, f);
+    let diagnostics: Vec<Diagnostic> = findings
+        .iter()
+        .map(|f| Diagnostic { file: file.into(), place: place(f), severity: f.severity, message: f.message.clone() })
+        .collect();
+    if diagnostics.iter().any(|d| d.severity == Severity::Error) {
+        return Err(LoadError { diagnostics });
+    }
+    Ok(Loaded { bench, warnings: diagnostics })
+}
+
+/// Plain words for an I/O error.
+fn io_words(e: &std::io::Error) -> String {
+    match e.kind() {
+        std::io::ErrorKind::NotFound => "no such file".into(),
+        std::io::ErrorKind::PermissionDenied => "permission denied".into(),
+        _ => e.to_string(),
+    }
+}
+
+/// Plain words for a RON error.
+fn ron_words(e: &ron::Error) -> String {
+    use ron::Error as E;
+    match e {
+        E::Eof => "the file ends too soon (a bracket or a field is missing)".into(),
+        E::NoSuchExtension(x) => format!("unknown extension {x}"),
+        E::NoSuchEnumVariant { expected, found, .. } => {
+            format!("\"{found}\" is not one of the kinds allowed here: {}", expected.join(", "))
+        }
+        E::NoSuchStructField { expected, found, .. } => {
+            let near = expected.iter().min_by_key(|x| lumenrail_optics::library::edit_distance(found, x));
+            let hint = near.map_or(String::new(), |n| format!(" (did you mean `{n}`?)"));
+            format!("unknown field `{found}`{hint}; the fields here are {}", expected.join(", "))
+        }
+        E::MissingStructField { field, outer } => match outer {
+            Some(o) => format!("`{o}` is missing its field `{field}`"),
+            None => format!("the field `{field}` is missing"),
+        },
+        E::DuplicateStructField { field, .. } => format!("the field `{field}` is given twice"),
+        E::ExceededRecursionLimit => "the file is nested too deeply to be a bench".into(),
+        other => format!("{other}"),
+    }
+}
+
+/// Converts a byte offset in `text` to a line and column.
+fn place_of_offset(text: &str, offset: usize) -> Place {
+    let before = &text[..offset.min(text.len())];
+    let line = before.matches('\n').count() + 1;
+    let col = before.rsplit('\n').next().map_or(0, |l| l.chars().count()) + 1;
+    Place { line, col }
+}
+
+/// Finds where things are in bench text: keys outside strings and comments, and each part by its name.
+struct Locator<'a> {
+    text: &'a str,
+    /// Byte offsets of code (not in strings or comments) as a mask.
+    code: Vec<bool>,
+}
+
+impl<'a> Locator<'a> {
+    fn new(text: &'a str) -> Locator<'a> {
+        let b = text.as_bytes();
+        let mut code = vec![true; b.len()];
+        let mut i = 0;
+        while i < b.len() {
+            if b[i] == b'"' {
+                code[i] = false;
+                i += 1;
+                while i < b.len() && b[i] != b'"' {
+                    if b[i] == b'\\' && i + 1 < b.len() {
+                        code[i] = false;
+                        i += 1;
+                    }
+                    code[i] = false;
+                    i += 1;
+                }
+                if i < b.len() {
+                    code[i] = false;
+                }
+            } else if b[i] == b'/' && b.get(i + 1) == Some(&b'/') {
+                while i < b.len() && b[i] != b'\n' {
+                    code[i] = false;
+                    i += 1;
+                }
+            }
+            i += 1;
+        }
+        Locator { text, code }
+    }
+
+    /// Byte offset of `key` followed by `:` in code within `[from, to)`.
+    fn key_offset(&self, from: usize, to: usize, key: &str) -> Option<usize> {
+        let b = self.text.as_bytes();
+        let mut start = from;
+        while let Some(k) = self.text.get(start..to).and_then(|s| s.find(key)) {
+            let at = start + k;
+            let end = at + key.len();
+            let word_before = at > 0 && (b[at - 1].is_ascii_alphanumeric() || b[at - 1] == b'_');
+            let word_after = end < b.len() && (b[end].is_ascii_alphanumeric() || b[end] == b'_');
+            let colon = self.text[end..].trim_start().starts_with(':');
+            if self.code[at] && !word_before && !word_after && colon {
+                return Some(at);
+            }
+            start = at + 1;
+        }
+        None
+    }
+
+    fn key(&self, from: usize, to: usize, key: &str) -> Option<Place> {
+        self.key_offset(from, to, key).map(|o| place_of_offset(self.text, o))
+    }
+
+    /// Byte span of the part with this name (its `name:` key up to the next part's `name:` key), taking
+    /// the `nth` such part for duplicate names.
+    fn part_span(&self, name: &str, nth: usize) -> Option<(usize, usize)> {
+        let parts = self.key_offset(0, self.text.len(), "parts").unwrap_or(0);
+        let mut starts = Vec::new();
+        let mut from = parts;
+        while let Some(at) = self.key_offset(from, self.text.len(), "name") {
+            starts.push(at);
+            from = at + 4;
+        }
+        let quoted = format!("\"{name}\"");
+        let mut seen = 0;
+        for (k, &at) in starts.iter().enumerate() {
+            let end = starts.get(k + 1).copied().unwrap_or(self.text.len());
+            let after = self.text[at + 4..].trim_start().strip_prefix(':').map(str::trim_start);
+            if after.is_some_and(|s| s.starts_with(&quoted)) {
+                if seen == nth {
+                    // The part's tuple opens before its name; search back to its `(`.
+                    let open = self.text[..at].rfind('(').unwrap_or(at);
+                    return Some((open, end));
+                }
+                seen += 1;
+            }
+        }
+        None
+    }
+
+    fn finding(&self, bench: &Bench, f: &Finding) -> Place {
+        let whole = (0, self.text.len());
+        let span = f.part.and_then(|i| {
+            let name = &bench.parts[i].name;
+            let nth = bench.parts[..i].iter().filter(|p| &p.name == name).count();
+            self.part_span(name, nth)
+        });
+        let (from, to) = span.unwrap_or(whole);
+        let field_place = f.field.and_then(|k| self.key(from, to, k));
+        field_place.or_else(|| span.map(|(s, _)| place_of_offset(self.text, s))).unwrap_or(Place { line: 1, col: 1 })
+    }
+}
+
+/// Writes `bench` as RON text, with the parts in rail order.
+pub fn to_text(bench: &Bench) -> String {
+    let mut sorted = bench.clone();
+    sorted.parts = bench.rail_order().into_iter().map(|i| bench.parts[i].clone()).collect();
+    let config = ron::ser::PrettyConfig::new().depth_limit(3).indentor("    ".to_string()).struct_names(false);
+    let mut text = ron::ser::to_string_pretty(&sorted, config).expect("a bench always serialises");
+    text.push('\n');
+    text
+}
+
+/// Why a save failed (the old file, if any, is untouched).
+#[derive(Debug, thiserror::Error)]
+#[error("cannot save {path}: {source}")]
+pub struct SaveError {
+    /// The target file.
+    pub path: PathBuf,
+    /// What went wrong.
+    pub source: std::io::Error,
+}
+
+/// Saves `bench` to `path` atomically: write a temporary file beside it, flush it to disk, then rename it
+/// over the target.
+pub fn save(bench: &Bench, path: &Path) -> Result<(), SaveError> {
+    let err = |source| SaveError { path: path.to_path_buf(), source };
+    let dir = path.parent().filter(|p| !p.as_os_str().is_empty()).unwrap_or(Path::new("."));
+    let file_name = path.file_name().ok_or_else(|| err(std::io::Error::other("no file name")))?;
+    let tmp = dir.join(format!(".{}.{}.tmp", file_name.to_string_lossy(), std::process::id()));
+    let result = (|| {
+        use std::io::Write;
+        let mut f = std::fs::File::create(&tmp)?;
+        f.write_all(to_text(bench).as_bytes())?;
+        f.sync_all()?;
+        std::fs::rename(&tmp, path)
+    })();
+    if result.is_err() {
+        let _ = std::fs::remove_file(&tmp);
+    }
+    result.map_err(err)
+}

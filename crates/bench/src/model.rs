@@ -1,0 +1,246 @@
+//! The bench document: rail, object, wavelengths and parts, exactly as the bench file (format 1) spells
+//! them (DESIGN.md, "The bench file").
+
+use serde::{Deserialize, Serialize};
+
+/// The newest bench file format this program reads and writes.
+pub const FORMAT: u32 = 1;
+
+/// One bench: a rail, an object, the parts and the wavelengths.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct Bench {
+    /// File format version (1).
+    pub format: u32,
+    /// A title for people.
+    pub title: String,
+    /// Usable rail length from the datum, mm.
+    pub rail_length_mm: f64,
+    /// Wavelengths, nm.
+    pub wavelengths_nm: Vec<f64>,
+    /// Index into `wavelengths_nm` of the wavelength that spots and first-order figures use.
+    pub primary_wavelength: usize,
+    /// Where the light comes from.
+    pub object: ObjectSpec,
+    /// The parts, in any order (the rail position decides).
+    pub parts: Vec<Part>,
+}
+
+/// The object.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub enum ObjectSpec {
+    /// A point object on the rail, with an off-axis point `height_mm` above the axis.
+    Point {
+        /// Rail position, mm.
+        at_mm: f64,
+        /// Height of the off-axis point, mm.
+        height_mm: f64,
+    },
+    /// An object at infinity (a distant scene, a collimated beam): field angle of the off-axis point above
+    /// the axis, and the beam diameter at the first part.
+    Distant {
+        /// Field angle, degrees.
+        field_deg: f64,
+        /// Beam diameter, mm.
+        beam_diameter_mm: f64,
+    },
+}
+
+/// A part on the rail.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct Part {
+    /// A unique name.
+    pub name: String,
+    /// Rail position of the first surface vertex (the side the light meets first), mm.
+    pub at_mm: f64,
+    /// What the part is.
+    pub kind: PartKind,
+    /// Footprint of the part's carrier along the rail, mm, centred on the part (for collision checks).
+    #[serde(default, skip_serializing_if = "Option::is_none", deserialize_with = "plain_some")]
+    pub carrier_mm: Option<f64>,
+}
+
+/// A surface shape.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub enum SurfaceSpec {
+    /// A plane.
+    Flat,
+    /// A sphere of this radius, mm, positive when its centre lies at +z of the vertex.
+    Radius(f64),
+    /// A conicoid of vertex radius `radius` (mm) and conic constant `conic`.
+    Conic {
+        /// Vertex radius, mm.
+        radius: f64,
+        /// Conic constant.
+        conic: f64,
+    },
+}
+
+/// A medium.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub enum MaterialSpec {
+    /// A material of the built-in library, by name.
+    Named(String),
+    /// A constant index.
+    Index(f64),
+    /// A glass by nd and Vd (two-term Cauchy model).
+    Abbe {
+        /// Index at 587.5618 nm.
+        nd: f64,
+        /// Abbe number.
+        vd: f64,
+    },
+    /// A Sellmeier formula n² = 1 + Σ bᵢλ²/(λ² − cᵢ), λ in µm, c in µm². A formula typed into a bench
+    /// carries no range of its own, so it is accepted over 380–1000 nm, as an nd/Vd glass is.
+    Sellmeier {
+        /// The b coefficients.
+        b: Vec<f64>,
+        /// The c coefficients, µm².
+        c: Vec<f64>,
+    },
+}
+
+/// What a part is.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub enum PartKind {
+    /// An ideal thin lens.
+    ThinLens {
+        /// Focal length, mm (negative: diverging).
+        focal_mm: f64,
+        /// Diameter, mm.
+        diameter_mm: f64,
+    },
+    /// A singlet lens.
+    Singlet {
+        /// The surface the light meets first.
+        front: SurfaceSpec,
+        /// The second surface.
+        back: SurfaceSpec,
+        /// Centre thickness, mm.
+        thickness_mm: f64,
+        /// Diameter, mm.
+        diameter_mm: f64,
+        /// The glass.
+        material: MaterialSpec,
+    },
+    /// A cemented doublet.
+    Doublet {
+        /// First surface.
+        front: SurfaceSpec,
+        /// Cemented surface.
+        middle: SurfaceSpec,
+        /// Last surface.
+        back: SurfaceSpec,
+        /// Centre thickness of the first element, mm.
+        thickness1_mm: f64,
+        /// Centre thickness of the second element, mm.
+        thickness2_mm: f64,
+        /// Glass of the first element.
+        material1: MaterialSpec,
+        /// Glass of the second element.
+        material2: MaterialSpec,
+        /// Diameter, mm.
+        diameter_mm: f64,
+    },
+    /// A mirror: the light turns back.
+    Mirror {
+        /// The mirror's shape.
+        surface: SurfaceSpec,
+        /// Diameter, mm.
+        diameter_mm: f64,
+    },
+    /// An iris (aperture).
+    Iris {
+        /// Opening diameter, mm.
+        diameter_mm: f64,
+    },
+    /// An observation screen: it does not block light.
+    Screen {
+        /// Screen diameter, mm.
+        diameter_mm: f64,
+    },
+}
+
+impl PartKind {
+    /// A short word for the kind, for messages.
+    pub fn word(&self) -> &'static str {
+        match self {
+            PartKind::ThinLens { .. } => "thin lens",
+            PartKind::Singlet { .. } => "singlet",
+            PartKind::Doublet { .. } => "doublet",
+            PartKind::Mirror { .. } => "mirror",
+            PartKind::Iris { .. } => "iris",
+            PartKind::Screen { .. } => "screen",
+        }
+    }
+
+    /// Centre thickness along the rail, mm (0 for thin parts).
+    pub fn thickness_mm(&self) -> f64 {
+        match self {
+            PartKind::Singlet { thickness_mm, .. } => *thickness_mm,
+            PartKind::Doublet { thickness1_mm, thickness2_mm, .. } => thickness1_mm + thickness2_mm,
+            _ => 0.0,
+        }
+    }
+
+    /// Diameter, mm.
+    pub fn diameter_mm(&self) -> f64 {
+        match self {
+            PartKind::ThinLens { diameter_mm, .. }
+            | PartKind::Singlet { diameter_mm, .. }
+            | PartKind::Doublet { diameter_mm, .. }
+            | PartKind::Mirror { diameter_mm, .. }
+            | PartKind::Iris { diameter_mm }
+            | PartKind::Screen { diameter_mm } => *diameter_mm,
+        }
+    }
+
+    /// Whether the part is made of glass (or is a mirror): such parts cannot overlap one another.
+    pub fn is_solid(&self) -> bool {
+        !matches!(self, PartKind::Screen { .. } | PartKind::Iris { .. } | PartKind::ThinLens { .. })
+    }
+}
+
+impl Part {
+    /// Rail position of the part's last vertex, mm.
+    pub fn end_mm(&self) -> f64 {
+        self.at_mm + self.kind.thickness_mm()
+    }
+
+    /// The carrier's extent on the rail, centred on the part's middle, if the part has one.
+    pub fn carrier_span_mm(&self) -> Option<(f64, f64)> {
+        self.carrier_mm.map(|w| {
+            let mid = 0.5 * (self.at_mm + self.end_mm());
+            (mid - 0.5 * w, mid + 0.5 * w)
+        })
+    }
+}
+
+impl Bench {
+    /// The primary wavelength, nm, if the index is valid.
+    pub fn primary_wavelength_nm(&self) -> Option<f64> {
+        self.wavelengths_nm.get(self.primary_wavelength).copied()
+    }
+
+    /// The parts' indices in rail order (stable for equal positions).
+    pub fn rail_order(&self) -> Vec<usize> {
+        let mut order: Vec<usize> = (0..self.parts.len()).collect();
+        order.sort_by(|&a, &b| self.parts[a].at_mm.total_cmp(&self.parts[b].at_mm));
+        order
+    }
+
+    /// A part by name.
+    pub fn part(&self, name: &str) -> Option<&Part> {
+        self.parts.iter().find(|p| p.name == name)
+    }
+}
+
+/// Reads an optional number written plainly (`carrier_mm: 25.0`, not `Some(25.0)`); absent means `None`.
+fn plain_some<'de, D: serde::Deserializer<'de>>(d: D) -> Result<Option<f64>, D::Error> {
+    f64::deserialize(d).map(Some)
+}

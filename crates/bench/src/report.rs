@@ -1,0 +1,504 @@
+//! The one report of a bench: every figure a person reads, computed from the document and never patched by
+//! hand. It serialises to the JSON keys of DESIGN.md (more may follow) and renders as text; the GUI and
+//! every export read this same type.
+
+use crate::compile::{self, Compiled};
+use crate::model::{Bench, ObjectSpec, PartKind};
+use crate::validate::{Severity, validate};
+use lumenrail_optics::analysis::{Analysis, Request, analyse};
+use lumenrail_optics::pupil::{PupilError, StopAt};
+use lumenrail_optics::spot::SpotError;
+use lumenrail_optics::trace::RayError;
+use serde::Serialize;
+use std::fmt::Write as _;
+
+/// First-order figures. Positions are rail positions, mm.
+#[derive(Debug, Clone, Default, PartialEq, Serialize)]
+pub struct FirstOrderFigures {
+    /// Effective focal length (null when afocal).
+    pub efl_mm: Option<f64>,
+    /// Back focal length, from the last vertex along the light's final direction.
+    pub bfl_mm: Option<f64>,
+    /// Front focal length, from the front focal point to the first vertex.
+    pub ffl_mm: Option<f64>,
+    /// Front focal point.
+    pub front_focus_at_mm: Option<f64>,
+    /// Back focal point.
+    pub back_focus_at_mm: Option<f64>,
+    /// Front principal plane.
+    pub front_principal_at_mm: Option<f64>,
+    /// Back principal plane.
+    pub back_principal_at_mm: Option<f64>,
+    /// Front nodal point.
+    pub front_nodal_at_mm: Option<f64>,
+    /// Back nodal point.
+    pub back_nodal_at_mm: Option<f64>,
+    /// f-number: EFL over the entrance pupil diameter.
+    pub f_number: Option<f64>,
+    /// Lagrange invariant, mm (object height × index × marginal slope form).
+    pub lagrange_invariant_mm: Option<f64>,
+}
+
+/// The aperture stop and the pupils.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct StopFigures {
+    /// The part that is the stop (or "input beam" for a distant object's beam).
+    pub part: String,
+    /// Stop diameter, mm.
+    pub diameter_mm: f64,
+    /// Entrance pupil position (null: at infinity).
+    pub entrance_pupil_at_mm: Option<f64>,
+    /// Entrance pupil diameter, mm.
+    pub entrance_pupil_diameter_mm: Option<f64>,
+    /// Exit pupil position (null: at infinity).
+    pub exit_pupil_at_mm: Option<f64>,
+    /// Exit pupil diameter, mm.
+    pub exit_pupil_diameter_mm: Option<f64>,
+}
+
+/// An image formed after one imaging part.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct ImageFigures {
+    /// The part after which the image forms.
+    pub after_part: String,
+    /// Rail position (null: at infinity).
+    pub at_mm: Option<f64>,
+    /// Whether the light really converges to it.
+    pub real: bool,
+    /// Whether it is upright.
+    pub erect: bool,
+    /// Lateral magnification (null for a distant object or an image at infinity).
+    pub magnification: Option<f64>,
+    /// Height of the off-axis object point's image, mm.
+    pub height_mm: Option<f64>,
+}
+
+/// Spot figures at a screen, for the on-axis object point at the primary wavelength.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct ScreenFigures {
+    /// The screen.
+    pub part: String,
+    /// Its rail position.
+    pub at_mm: f64,
+    /// RMS spot radius, µm.
+    pub rms_spot_um: Option<f64>,
+    /// Radius that holds every ray, µm.
+    pub geometric_spot_um: Option<f64>,
+    /// Plane of least RMS radius.
+    pub best_focus_at_mm: Option<f64>,
+    /// RMS radius there, µm.
+    pub best_rms_spot_um: Option<f64>,
+    /// How far to move the screen to reach best focus, mm (signed, along the rail).
+    pub move_to_best_focus_mm: Option<f64>,
+    /// Spot radius over the Airy radius (below 1: the geometric blur is inside the Airy disk).
+    pub rms_over_airy: Option<f64>,
+}
+
+/// Aberration and image-quality figures.
+#[derive(Debug, Clone, Default, PartialEq, Serialize)]
+pub struct Aberrations {
+    /// Marginal ray axis crossing minus the paraxial image position, mm.
+    pub marginal_lsa_mm: Option<f64>,
+    /// Paraxial image position at the longest wavelength minus at the shortest, mm.
+    pub chromatic_focal_shift_mm: Option<f64>,
+    /// Airy disk radius at the primary wavelength, µm (1.21967 λ N_w).
+    pub airy_radius_um: Option<f64>,
+    /// Working f-number 1/(2|n'u'|).
+    pub working_f_number: Option<f64>,
+    /// Image-space numerical aperture of the real marginal ray.
+    pub image_na: Option<f64>,
+    /// Depth of focus, ± mm (±2λN_w², the quarter-wave rule, common practice).
+    pub depth_of_focus_mm: Option<f64>,
+    /// Seidel sums S_I..S_V, C_I, C_II (mm; Welford).
+    pub seidel: Option<SeidelSums>,
+}
+
+/// Seidel sums of the system.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+pub struct SeidelSums {
+    /// S_I spherical.
+    pub spherical: f64,
+    /// S_II coma.
+    pub coma: f64,
+    /// S_III astigmatism.
+    pub astigmatism: f64,
+    /// S_IV Petzval.
+    pub petzval: f64,
+    /// S_V distortion.
+    pub distortion: f64,
+    /// C_I axial colour.
+    pub axial_colour: f64,
+    /// C_II lateral colour.
+    pub lateral_colour: f64,
+}
+
+/// Figures of an afocal bench (telescope, beam expander).
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct Afocal {
+    /// Angular magnification (negative: inverted view).
+    pub angular_magnification: f64,
+    /// Exit pupil diameter, mm.
+    pub exit_pupil_diameter_mm: Option<f64>,
+    /// Distance from the last vertex to the exit pupil, mm.
+    pub eye_relief_mm: Option<f64>,
+}
+
+/// The paraxial image position at one wavelength.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct ColourFocus {
+    /// Wavelength, nm.
+    pub wavelength_nm: f64,
+    /// Final image position (null: at infinity).
+    pub image_at_mm: Option<f64>,
+}
+
+/// Every figure of a bench.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct Report {
+    /// The bench's title.
+    pub title: String,
+    /// Primary wavelength, nm.
+    pub primary_wavelength_nm: f64,
+    /// First-order figures.
+    pub first_order: FirstOrderFigures,
+    /// Stop and pupils (null when nothing limits the light).
+    pub stop: Option<StopFigures>,
+    /// Images after each imaging part; the last is the final image.
+    pub images: Vec<ImageFigures>,
+    /// Spot figures at each screen.
+    pub screens: Vec<ScreenFigures>,
+    /// Aberrations and image quality.
+    pub aberrations: Aberrations,
+    /// Afocal figures (null unless afocal).
+    pub afocal: Option<Afocal>,
+    /// Share of the off-axis point's meridional pupil that passes every aperture (1: no vignetting).
+    pub off_axis_transmission: Option<f64>,
+    /// Final paraxial image position at every wavelength.
+    pub colour: Vec<ColourFocus>,
+    /// Everything that needs a look.
+    pub warnings: Vec<String>,
+    /// Why the bench cannot be traced as asked (null when it can).
+    pub trace_failure: Option<String>,
+}
+
+fn um(mm: f64) -> f64 {
+    mm * 1e3
+}
+
+impl Report {
+    /// Computes the report of a bench. A bench with validation errors gives a report whose
+    /// `trace_failure` lists them.
+    pub fn of(bench: &Bench) -> Report {
+        let mut report = Report {
+            title: bench.title.clone(),
+            primary_wavelength_nm: bench.primary_wavelength_nm().unwrap_or(f64::NAN),
+            first_order: FirstOrderFigures::default(),
+            stop: None,
+            images: Vec::new(),
+            screens: Vec::new(),
+            aberrations: Aberrations::default(),
+            afocal: None,
+            off_axis_transmission: None,
+            colour: Vec::new(),
+            warnings: Vec::new(),
+            trace_failure: None,
+        };
+        let findings = validate(bench);
+        let errors: Vec<String> = findings.iter().filter(|f| f.severity == Severity::Error).map(|f| f.message.clone()).collect();
+        report.warnings.extend(findings.iter().filter(|f| f.severity == Severity::Warning).map(|f| f.message.clone()));
+        if !errors.is_empty() {
+            report.primary_wavelength_nm = bench.primary_wavelength_nm().filter(|w| w.is_finite()).unwrap_or(0.0);
+            report.trace_failure = Some(errors.join("; "));
+            return report;
+        }
+        let compiled = match compile::compile(bench) {
+            Ok(c) => c,
+            Err(e) => {
+                report.trace_failure = Some(format!("unknown material \"{}\"", e.name));
+                return report;
+            }
+        };
+        if compiled.truncated {
+            report.warnings.push(format!(
+                "the light is reflected back and forth between mirrors; it is followed for {} reflections only",
+                compile::MAX_REFLECTIONS
+            ));
+        }
+        let screens: Vec<usize> = bench.rail_order().into_iter().filter(|&i| matches!(bench.parts[i].kind, PartKind::Screen { .. })).collect();
+        let request = Request {
+            object: compiled.object,
+            wavelengths_nm: bench.wavelengths_nm.clone(),
+            primary: bench.primary_wavelength,
+            planes_mm: screens.iter().map(|&i| bench.parts[i].at_mm).collect(),
+            vignetting: true,
+        };
+        let analysis = match analyse(&compiled.system, &request) {
+            Ok(a) => a,
+            Err(e) => {
+                report.trace_failure = Some(e.to_string());
+                return report;
+            }
+        };
+        report.fill(bench, &compiled, &analysis, &screens);
+        report
+    }
+
+    fn part_name(bench: &Bench, compiled: &Compiled, surface: usize) -> String {
+        compiled.system.surfaces.get(surface).map_or_else(|| "?".into(), |s| bench.parts[s.element].name.clone())
+    }
+
+    fn ray_words(bench: &Bench, compiled: &Compiled, e: &RayError) -> String {
+        let name = |s: usize| Self::part_name(bench, compiled, s);
+        match *e {
+            RayError::Missed { surface } => format!("the ray misses a surface of \"{}\"", name(surface)),
+            RayError::Blocked { surface, height_mm } => {
+                format!("the ray is blocked by \"{}\" ({height_mm:.3} mm from the axis)", name(surface))
+            }
+            RayError::TotalInternalReflection { surface } => {
+                format!("total internal reflection inside \"{}\"", name(surface))
+            }
+            RayError::NonFinite { surface } => match surface {
+                Some(s) => format!("the ray cannot be followed through \"{}\"", name(s)),
+                None => "the ray cannot be started".into(),
+            },
+        }
+    }
+
+    fn fill(&mut self, bench: &Bench, compiled: &Compiled, a: &Analysis, screens: &[usize]) {
+        let surfaces = &compiled.system.surfaces;
+        if surfaces.is_empty() {
+            self.trace_failure = Some("no part bends or limits the light (a bench of screens only)".into());
+            return;
+        }
+        if let Some(f) = a.first_order {
+            self.first_order = FirstOrderFigures {
+                efl_mm: f.efl_mm,
+                bfl_mm: f.bfl_mm,
+                ffl_mm: f.ffl_mm,
+                front_focus_at_mm: f.front_focus_at_mm,
+                back_focus_at_mm: f.back_focus_at_mm,
+                front_principal_at_mm: f.front_principal_at_mm,
+                back_principal_at_mm: f.back_principal_at_mm,
+                front_nodal_at_mm: f.front_nodal_at_mm,
+                back_nodal_at_mm: f.back_nodal_at_mm,
+                f_number: a.f_number,
+                lagrange_invariant_mm: a.lagrange_invariant_mm,
+            };
+        }
+        for img in &a.images {
+            self.images.push(ImageFigures {
+                after_part: bench.parts[img.element].name.clone(),
+                at_mm: img.at_mm,
+                real: img.real,
+                erect: img.erect,
+                magnification: img.magnification,
+                height_mm: img.height_mm,
+            });
+        }
+        self.colour = a.colour.iter().map(|c| ColourFocus { wavelength_nm: c.wavelength_nm, image_at_mm: c.image_at_mm }).collect();
+        match &a.pupils {
+            Ok(p) => {
+                let part = match p.stop {
+                    StopAt::Beam => "input beam".to_string(),
+                    StopAt::Surface(s) => Self::part_name(bench, compiled, s),
+                };
+                self.stop = Some(StopFigures {
+                    part,
+                    diameter_mm: 2.0 * p.stop_semi_mm,
+                    entrance_pupil_at_mm: p.entrance_pupil_at_mm,
+                    entrance_pupil_diameter_mm: p.entrance_pupil_diameter_mm,
+                    exit_pupil_at_mm: p.exit_pupil_at_mm,
+                    exit_pupil_diameter_mm: p.exit_pupil_diameter_mm,
+                });
+                if let Some(f) = a.first_order.filter(|f| f.afocal) {
+                    let last = surfaces.last().expect("checked above");
+                    self.afocal = Some(Afocal {
+                        angular_magnification: f.angular_magnification.unwrap_or(1.0),
+                        exit_pupil_diameter_mm: p.exit_pupil_diameter_mm,
+                        eye_relief_mm: p.exit_pupil_at_mm.map(|z| (z - last.vertex_z_mm) * compiled.final_direction),
+                    });
+                }
+            }
+            Err(PupilError::Unbounded) => self.warnings.push("no aperture limits the light".into()),
+            Err(e) => self.warnings.push(e.to_string()),
+        }
+        let airy_um = a.airy_radius_um;
+        self.aberrations = Aberrations {
+            marginal_lsa_mm: a.marginal_lsa_mm,
+            chromatic_focal_shift_mm: a.chromatic_focal_shift_mm,
+            airy_radius_um: airy_um,
+            working_f_number: a.working_f_number,
+            image_na: a.image_na,
+            depth_of_focus_mm: a.depth_of_focus_mm,
+            seidel: a.seidel.as_ref().map(|s| {
+                let t = s.total;
+                SeidelSums {
+                    spherical: t.spherical,
+                    coma: t.coma,
+                    astigmatism: t.astigmatism,
+                    petzval: t.petzval,
+                    distortion: t.distortion,
+                    axial_colour: t.axial_colour,
+                    lateral_colour: t.lateral_colour,
+                }
+            }),
+        };
+        self.off_axis_transmission = a.off_axis_transmission;
+        if let Some(t) = a.off_axis_transmission
+            && t < 1.0 - 1e-6
+        {
+            let off_axis = match bench.object {
+                ObjectSpec::Point { height_mm, .. } => format!("the object point {height_mm} mm off axis"),
+                ObjectSpec::Distant { field_deg, .. } => format!("the field point {field_deg}° off axis"),
+            };
+            self.warnings.push(format!("vignetting: {off_axis} keeps {:.1}% of its meridional pupil", 100.0 * t));
+        }
+        // Screens: figures for the light's last crossing, which the final rays give when the screen lies in
+        // the final space (beyond the last surface, along the final direction).
+        let last = surfaces.last().expect("checked above");
+        let spot = match &a.spot {
+            Some(Ok(s)) => Some(s),
+            Some(Err(e)) => {
+                let why = match e {
+                    SpotError::Marginal(r) | SpotError::AllBlocked(r) => Self::ray_words(bench, compiled, r),
+                };
+                self.trace_failure = Some(format!("the on-axis light does not reach the image: {why}"));
+                None
+            }
+            None => None,
+        };
+        if let Some(s) = spot
+            && s.blocked_share > 0.0
+        {
+            self.warnings.push(format!("{:.1}% of the on-axis light is blocked before the image", 100.0 * s.blocked_share));
+        }
+        for (k, &i) in screens.iter().enumerate() {
+            let p = &bench.parts[i];
+            let in_final_space = (p.at_mm - last.vertex_z_mm) * compiled.final_direction >= 0.0;
+            let mut fig = ScreenFigures {
+                part: p.name.clone(),
+                at_mm: p.at_mm,
+                rms_spot_um: None,
+                geometric_spot_um: None,
+                best_focus_at_mm: None,
+                best_rms_spot_um: None,
+                move_to_best_focus_mm: None,
+                rms_over_airy: None,
+            };
+            if !in_final_space {
+                self.warnings.push(format!(
+                    "screen \"{}\" is crossed before the light meets its last part; spot figures are given for screens after it",
+                    p.name
+                ));
+            } else if let Some(s) = spot {
+                let (_, rms, geo) = s.planes[k];
+                fig.rms_spot_um = Some(um(rms));
+                fig.geometric_spot_um = Some(um(geo));
+                fig.best_focus_at_mm = Some(s.best_focus_at_mm);
+                fig.best_rms_spot_um = Some(um(s.best_rms_mm));
+                fig.move_to_best_focus_mm = Some(s.best_focus_at_mm - p.at_mm);
+                fig.rms_over_airy = airy_um.filter(|a| *a > 0.0).map(|a| um(rms) / a);
+                let half = 0.5 * p.kind.diameter_mm();
+                if let Some(h) = self.images.last().and_then(|img| img.height_mm).filter(|h| h.abs() > half)
+                    && self.images.last().and_then(|img| img.at_mm).is_some_and(|z| (z - p.at_mm).abs() < 1.0)
+                {
+                    self.warnings.push(format!("the image ({:.1} mm tall) does not fit screen \"{}\" ({:.1} mm across)", 2.0 * h.abs(), p.name, p.kind.diameter_mm()));
+                }
+            }
+            self.screens.push(fig);
+        }
+        if matches!(bench.object, ObjectSpec::Distant { .. }) && a.first_order.is_some_and(|f| f.power_per_mm > 0.0) {
+            self.warnings.push("caution: a converging bench aimed at the sun or a strong lamp focuses enough light to burn skin and eyes and to start fires".into());
+        }
+    }
+
+    /// Whether the bench traced as asked (no `trace_failure`).
+    pub fn traced(&self) -> bool {
+        self.trace_failure.is_none()
+    }
+
+    /// The report as JSON text (pretty, keys as DESIGN.md lists them).
+    pub fn to_json(&self) -> String {
+        serde_json::to_string_pretty(self).expect("a report always serialises")
+    }
+
+    /// The report as a text table for a person.
+    pub fn to_text(&self) -> String {
+        let mut t = String::new();
+        // `+ 0.0` turns a −0 into +0, so that a rounded zero never prints as "-0.000".
+        let mm = |v: Option<f64>| v.map_or_else(|| "—".to_string(), |v| format!("{:.3} mm", v + 0.0));
+        let at = |v: Option<f64>| v.map_or_else(|| "at infinity".to_string(), |v| format!("{:.3} mm", v + 0.0));
+        let _ = writeln!(t, "{}", self.title);
+        let _ = writeln!(t, "primary wavelength {} nm", self.primary_wavelength_nm);
+        if let Some(f) = &self.trace_failure {
+            let _ = writeln!(t, "\nCANNOT TRACE AS ASKED: {f}");
+        }
+        let f = &self.first_order;
+        let _ = writeln!(t, "\nFirst order (positions on the rail)");
+        let _ = writeln!(t, "  EFL {}   BFL {}   FFL {}", mm(f.efl_mm), mm(f.bfl_mm), mm(f.ffl_mm));
+        let _ = writeln!(t, "  front focus {}   back focus {}", mm(f.front_focus_at_mm), mm(f.back_focus_at_mm));
+        let _ = writeln!(t, "  principal planes {} / {}", mm(f.front_principal_at_mm), mm(f.back_principal_at_mm));
+        if let Some(n) = f.f_number {
+            let _ = writeln!(t, "  f-number {n:.2}");
+        }
+        if let Some(s) = &self.stop {
+            let _ = writeln!(t, "\nAperture stop: {} ({:.3} mm)", s.part, s.diameter_mm);
+            let _ = writeln!(t, "  entrance pupil {} , {} across", at(s.entrance_pupil_at_mm), mm(s.entrance_pupil_diameter_mm));
+            let _ = writeln!(t, "  exit pupil     {} , {} across", at(s.exit_pupil_at_mm), mm(s.exit_pupil_diameter_mm));
+        }
+        if !self.images.is_empty() {
+            let _ = writeln!(t, "\nImages");
+            let _ = writeln!(t, "  {:<16} {:>14}  {:<8} {:<9} {:>14}", "after part", "at", "kind", "way up", "magnification");
+            for (k, img) in self.images.iter().enumerate() {
+                let last = if k + 1 == self.images.len() { " (final)" } else { "" };
+                let m = img.magnification.map_or_else(|| "—".to_string(), |m| format!("{m:.5}"));
+                let _ = writeln!(
+                    t,
+                    "  {:<16} {:>14}  {:<8} {:<9} {:>14}{last}",
+                    img.after_part,
+                    at(img.at_mm),
+                    if img.real { "real" } else { "virtual" },
+                    if img.erect { "erect" } else { "inverted" },
+                    m
+                );
+            }
+        }
+        if let Some(af) = &self.afocal {
+            let _ = writeln!(t, "\nAfocal: angular magnification {:.4}", af.angular_magnification);
+            let _ = writeln!(t, "  exit pupil {} across, eye relief {}", mm(af.exit_pupil_diameter_mm), mm(af.eye_relief_mm));
+        }
+        if !self.screens.is_empty() {
+            let _ = writeln!(t, "\nScreens (on-axis point, primary wavelength)");
+            let um = |v: Option<f64>| v.map_or_else(|| "—".to_string(), |v| format!("{v:.2} µm"));
+            for s in &self.screens {
+                let _ = writeln!(
+                    t,
+                    "  {} at {:.3} mm: RMS {}, geometric {}; best focus {} (RMS {}), move {}",
+                    s.part,
+                    s.at_mm,
+                    um(s.rms_spot_um),
+                    um(s.geometric_spot_um),
+                    mm(s.best_focus_at_mm),
+                    um(s.best_rms_spot_um),
+                    mm(s.move_to_best_focus_mm)
+                );
+            }
+        }
+        let ab = &self.aberrations;
+        let _ = writeln!(t, "\nImage quality");
+        let _ = writeln!(t, "  marginal LSA {}   chromatic focal shift {}", mm(ab.marginal_lsa_mm), mm(ab.chromatic_focal_shift_mm));
+        if let (Some(n), Some(r)) = (ab.working_f_number, ab.airy_radius_um) {
+            let _ = writeln!(t, "  working f-number {n:.3}   Airy radius {r:.2} µm   depth of focus ±{}", mm(ab.depth_of_focus_mm));
+        }
+        if let Some(v) = self.off_axis_transmission {
+            let _ = writeln!(t, "  off-axis point keeps {:.1}% of its meridional pupil", 100.0 * v);
+        }
+        if !self.warnings.is_empty() {
+            let _ = writeln!(t, "\nWarnings");
+            for w in &self.warnings {
+                let _ = writeln!(t, "  - {w}");
+            }
+        }
+        t
+    }
+}

@@ -1,0 +1,302 @@
+//! Validation of a bench: every finding names the part and the field and says what is wrong in plain
+//! words. Errors stop a bench from being traced; warnings travel with the report.
+
+use crate::compile;
+use crate::model::{Bench, MaterialSpec, ObjectSpec, Part, PartKind, SurfaceSpec};
+
+/// How serious a finding is.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Severity {
+    /// The bench cannot be built or traced as written.
+    Error,
+    /// The bench can be traced, but something needs a look.
+    Warning,
+}
+
+/// One thing validation found.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Finding {
+    /// Error or warning.
+    pub severity: Severity,
+    /// Index of the part concerned, in `bench.parts` (`None`: the bench as a whole).
+    pub part: Option<usize>,
+    /// The field concerned, as spelled in the file.
+    pub field: Option<&'static str>,
+    /// What is wrong, in plain words (naming the part).
+    pub message: String,
+}
+
+/// Most parts a bench may hold.
+pub const MAX_PARTS: usize = 500;
+/// Most wavelengths a bench may list.
+pub const MAX_WAVELENGTHS: usize = 32;
+
+struct Checker<'a> {
+    bench: &'a Bench,
+    findings: Vec<Finding>,
+}
+
+impl Checker<'_> {
+    fn push(&mut self, severity: Severity, part: Option<usize>, field: Option<&'static str>, message: String) {
+        self.findings.push(Finding { severity, part, field, message });
+    }
+
+    fn error(&mut self, part: Option<usize>, field: &'static str, message: String) {
+        self.push(Severity::Error, part, Some(field), message);
+    }
+
+    fn who(&self, i: usize) -> String {
+        let p = &self.bench.parts[i];
+        format!("{} \"{}\"", p.kind.word(), p.name)
+    }
+
+    /// A length that must be finite and positive.
+    fn positive(&mut self, part: Option<usize>, field: &'static str, what: &str, v: f64) -> bool {
+        if v.is_finite() && v > 0.0 {
+            return true;
+        }
+        let whose = part.map_or(String::new(), |i| format!("{}: ", self.who(i)));
+        self.error(part, field, format!("{whose}{what} must be a positive number of mm, not {v}"));
+        false
+    }
+
+    fn surface(&mut self, i: usize, field: &'static str, s: &SurfaceSpec, semi_mm: f64) -> bool {
+        let who = self.who(i);
+        let (radius, conic) = match *s {
+            SurfaceSpec::Flat => return true,
+            SurfaceSpec::Radius(r) => (r, 0.0),
+            SurfaceSpec::Conic { radius, conic } => (radius, conic),
+        };
+        if !radius.is_finite() || radius == 0.0 {
+            let hint = if radius == 0.0 { " (a flat surface is spelled Flat)" } else { "" };
+            self.error(Some(i), field, format!("{who}: radius {radius} mm is not a usable radius{hint}"));
+            return false;
+        }
+        if !conic.is_finite() {
+            self.error(Some(i), field, format!("{who}: conic constant {conic} must be a finite number"));
+            return false;
+        }
+        let shape = compile::shape(s);
+        if semi_mm.is_finite() && shape.sag_mm(semi_mm).is_none() {
+            let msg = if conic == 0.0 {
+                format!(
+                    "{who}: a sphere of radius {} mm cannot span the {:.4} mm diameter (the radius is smaller than the semi-diameter)",
+                    radius.abs(),
+                    2.0 * semi_mm
+                )
+            } else {
+                format!("{who}: this conic surface does not reach the lens's edge at {semi_mm} mm from the axis")
+            };
+            self.error(Some(i), field, msg);
+            return false;
+        }
+        true
+    }
+
+    fn material(&mut self, i: usize, field: &'static str, m: &MaterialSpec) {
+        let who = self.who(i);
+        match compile::material(m) {
+            Err(unknown) => {
+                let hint = if unknown.suggestions.is_empty() {
+                    String::from(" (run `lumenrail materials` for the list)")
+                } else {
+                    format!("; did you mean {}?", unknown.suggestions.iter().map(|s| format!("\"{s}\"")).collect::<Vec<_>>().join(" or "))
+                };
+                self.error(Some(i), field, format!("{who}: unknown material \"{}\"{hint}", unknown.name));
+            }
+            Ok(material) => {
+                if let Err(e) = material.validate() {
+                    self.error(Some(i), field, format!("{who}: {e}"));
+                    return;
+                }
+                for &wl in &self.bench.wavelengths_nm {
+                    if wl.is_finite() && wl > 0.0 && let Err(e) = material.index_at(wl) {
+                        self.error(Some(i), field, format!("{who}: {e}"));
+                        return;
+                    }
+                }
+            }
+        }
+    }
+
+    /// The glass extent of a part along the rail (vertex span widened by the edge sags), if it is solid.
+    fn glass_span(&self, p: &Part) -> Option<(f64, f64)> {
+        let semi = 0.5 * p.kind.diameter_mm();
+        let sag = |s: &SurfaceSpec| compile::shape(s).sag_mm(semi).unwrap_or(0.0);
+        let (front, back): (f64, f64) = match &p.kind {
+            PartKind::Singlet { front, back, .. } => (sag(front), sag(back)),
+            PartKind::Doublet { front, back, .. } => (sag(front), sag(back)),
+            PartKind::Mirror { surface, .. } => (sag(surface), sag(surface)),
+            _ => return None,
+        };
+        Some((p.at_mm + front.min(0.0), p.end_mm() + back.max(0.0)))
+    }
+}
+
+/// Validates `bench`; returns every finding, errors first.
+pub fn validate(bench: &Bench) -> Vec<Finding> {
+    let mut c = Checker { bench, findings: Vec::new() };
+    if bench.format != crate::model::FORMAT {
+        c.error(None, "format", format!("format {} is not one this program reads (it reads format {})", bench.format, crate::model::FORMAT));
+    }
+    let rail_ok = c.positive(None, "rail_length_mm", "the rail length", bench.rail_length_mm);
+    if bench.wavelengths_nm.is_empty() {
+        c.error(None, "wavelengths_nm", "at least one wavelength is needed".into());
+    }
+    if bench.wavelengths_nm.len() > MAX_WAVELENGTHS {
+        c.error(None, "wavelengths_nm", format!("{} wavelengths is more than the {MAX_WAVELENGTHS} a bench may list", bench.wavelengths_nm.len()));
+    }
+    for &wl in &bench.wavelengths_nm {
+        if !(wl.is_finite() && wl > 0.0) {
+            c.error(None, "wavelengths_nm", format!("wavelength {wl} nm must be a positive number"));
+        }
+    }
+    if bench.primary_wavelength >= bench.wavelengths_nm.len() && !bench.wavelengths_nm.is_empty() {
+        c.error(
+            None,
+            "primary_wavelength",
+            format!(
+                "primary_wavelength {} does not name one of the {} wavelengths (it counts from 0)",
+                bench.primary_wavelength,
+                bench.wavelengths_nm.len()
+            ),
+        );
+    }
+    match bench.object {
+        ObjectSpec::Point { at_mm, height_mm } => {
+            if !at_mm.is_finite() || rail_ok && !(0.0..=bench.rail_length_mm).contains(&at_mm) {
+                c.error(None, "object", format!("the object at {at_mm} mm must lie on the rail (0 to {} mm)", bench.rail_length_mm));
+            }
+            if !height_mm.is_finite() {
+                c.error(None, "object", format!("the object height {height_mm} mm must be a finite number"));
+            }
+        }
+        ObjectSpec::Distant { field_deg, beam_diameter_mm } => {
+            if !(field_deg.is_finite() && field_deg.abs() < 90.0) {
+                c.error(None, "object", format!("the field angle {field_deg}° must lie between −90° and 90°"));
+            }
+            c.positive(None, "object", "the beam diameter", beam_diameter_mm);
+        }
+    }
+    if bench.parts.len() > MAX_PARTS {
+        c.error(None, "parts", format!("{} parts is more than the {MAX_PARTS} a bench may hold", bench.parts.len()));
+        return c.findings;
+    }
+    // Names.
+    for (i, p) in bench.parts.iter().enumerate() {
+        if p.name.trim().is_empty() {
+            c.error(Some(i), "name", format!("the {} at {} mm needs a name", p.kind.word(), p.at_mm));
+        } else if let Some(first) = bench.parts[..i].iter().position(|q| q.name == p.name) {
+            c.error(Some(i), "name", format!("two parts are named \"{}\" (part {} and part {}); names must be unique", p.name, first + 1, i + 1));
+        }
+    }
+    // Each part's own numbers.
+    for (i, p) in bench.parts.iter().enumerate() {
+        let who = c.who(i);
+        if !p.at_mm.is_finite() {
+            c.error(Some(i), "at_mm", format!("{who}: position {} mm must be a finite number", p.at_mm));
+            continue;
+        }
+        let d_ok = c.positive(Some(i), "diameter_mm", "the diameter", p.kind.diameter_mm());
+        let semi = if d_ok { 0.5 * p.kind.diameter_mm() } else { f64::NAN };
+        match &p.kind {
+            PartKind::ThinLens { focal_mm, .. } => {
+                if !focal_mm.is_finite() || *focal_mm == 0.0 {
+                    c.error(Some(i), "focal_mm", format!("{who}: focal length {focal_mm} mm must be a finite, non-zero number"));
+                }
+            }
+            PartKind::Singlet { front, back, thickness_mm, material, .. } => {
+                let t_ok = c.positive(Some(i), "thickness_mm", "the centre thickness", *thickness_mm);
+                let f_ok = c.surface(i, "front", front, semi);
+                let b_ok = c.surface(i, "back", back, semi);
+                c.material(i, "material", material);
+                if t_ok && f_ok && b_ok && d_ok {
+                    edge_check(&mut c, i, &[*front, *back], &[*thickness_mm], semi);
+                }
+            }
+            PartKind::Doublet { front, middle, back, thickness1_mm, thickness2_mm, material1, material2, .. } => {
+                let t1 = c.positive(Some(i), "thickness1_mm", "the first centre thickness", *thickness1_mm);
+                let t2 = c.positive(Some(i), "thickness2_mm", "the second centre thickness", *thickness2_mm);
+                let s_ok = c.surface(i, "front", front, semi) & c.surface(i, "middle", middle, semi) & c.surface(i, "back", back, semi);
+                c.material(i, "material1", material1);
+                c.material(i, "material2", material2);
+                if t1 && t2 && s_ok && d_ok {
+                    edge_check(&mut c, i, &[*front, *middle, *back], &[*thickness1_mm, *thickness2_mm], semi);
+                }
+            }
+            PartKind::Mirror { surface, .. } => {
+                c.surface(i, "surface", surface, semi);
+            }
+            PartKind::Iris { .. } | PartKind::Screen { .. } => {}
+        }
+        if let Some(w) = p.carrier_mm
+            && !(w.is_finite() && w >= 0.0)
+        {
+            c.error(Some(i), "carrier_mm", format!("{who}: carrier width {w} mm must be a non-negative number"));
+        }
+        if rail_ok && p.kind.thickness_mm().is_finite() && (p.at_mm < 0.0 || p.end_mm() > bench.rail_length_mm) {
+            c.error(
+                Some(i),
+                "at_mm",
+                format!("{who} at {} mm lies beyond the rail, which runs from 0 to {} mm", p.at_mm, bench.rail_length_mm),
+            );
+        }
+    }
+    if c.findings.iter().any(|f| f.severity == Severity::Error) {
+        return c.findings;
+    }
+    // Parts against each other, in rail order.
+    let order = bench.rail_order();
+    for (a_pos, &a) in order.iter().enumerate() {
+        for &b in &order[a_pos + 1..] {
+            let (pa, pb) = (&bench.parts[a], &bench.parts[b]);
+            if let (Some(ga), Some(gb)) = (c.glass_span(pa), c.glass_span(pb)) {
+                let overlap = ga.1.min(gb.1) - ga.0.max(gb.0);
+                if overlap > 0.0 {
+                    let msg = format!("{} and {} overlap by {overlap:.3} mm of glass; they cannot both be built there", c.who(a), c.who(b));
+                    c.error(Some(b), "at_mm", msg);
+                }
+            }
+            // A thin part (iris, screen, thin lens) inside a lens's glass cannot be built either.
+            for (solid, thin) in [(a, b), (b, a)] {
+                let (ps, pt) = (&bench.parts[solid], &bench.parts[thin]);
+                if let (Some(g), None) = (c.glass_span(ps), c.glass_span(pt))
+                    && pt.at_mm > g.0
+                    && pt.at_mm < g.1
+                {
+                    let msg = format!("{} at {} mm lies inside the glass of {} ({:.3} to {:.3} mm)", c.who(thin), pt.at_mm, c.who(solid), g.0, g.1);
+                    c.error(Some(thin), "at_mm", msg);
+                }
+            }
+            if let (Some(ca), Some(cb)) = (pa.carrier_span_mm(), pb.carrier_span_mm()) {
+                let overlap = ca.1.min(cb.1) - ca.0.max(cb.0);
+                if overlap > 0.0 {
+                    let msg = format!("the carriers of {} and {} overlap by {overlap:.1} mm", c.who(a), c.who(b));
+                    c.push(Severity::Warning, Some(b), Some("carrier_mm"), msg);
+                }
+            }
+        }
+    }
+    c.findings.sort_by_key(|f| f.severity != Severity::Error);
+    c.findings
+}
+
+/// Edge thickness of each element of a lens must be positive: its surfaces may not cross inside the
+/// diameter.
+fn edge_check(c: &mut Checker<'_>, i: usize, surfaces: &[SurfaceSpec], thicknesses: &[f64], semi_mm: f64) {
+    let sags: Vec<f64> = surfaces.iter().map(|s| compile::shape(s).sag_mm(semi_mm).unwrap_or(0.0)).collect();
+    for (k, t) in thicknesses.iter().enumerate() {
+        let edge = t + sags[k + 1] - sags[k];
+        if edge <= 0.0 {
+            let which = if thicknesses.len() > 1 { format!(" (element {})", k + 1) } else { String::new() };
+            let field = if thicknesses.len() > 1 { if k == 0 { "thickness1_mm" } else { "thickness2_mm" } } else { "thickness_mm" };
+            let who = c.who(i);
+            c.error(
+                Some(i),
+                field,
+                format!("{who}{which}: the edge thickness is {edge:.3} mm; its surfaces cross inside the {:.3} mm diameter", 2.0 * semi_mm),
+            );
+        }
+    }
+}
+
