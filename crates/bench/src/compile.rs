@@ -41,10 +41,9 @@ pub struct UnknownMaterial {
 /// Resolves a material spelled in a bench.
 pub fn material(spec: &MaterialSpec) -> Result<Material, UnknownMaterial> {
     match spec {
-        MaterialSpec::Named(name) => library::find(name).map(|e| e.material).ok_or_else(|| UnknownMaterial {
-            name: name.clone(),
-            suggestions: library::nearest_names(name),
-        }),
+        MaterialSpec::Named(name) => library::find(name)
+            .map(|e| e.material)
+            .ok_or_else(|| UnknownMaterial { name: name.clone(), suggestions: library::nearest_names(name) }),
         MaterialSpec::Index(n) => Ok(Material::Constant(*n)),
         MaterialSpec::Abbe { nd, vd } => Ok(Material::Abbe { nd: *nd, vd: *vd }),
         MaterialSpec::Sellmeier { b, c } => {
@@ -113,7 +112,11 @@ pub fn compile(bench: &Bench) -> Result<Compiled, UnknownMaterial> {
     let mut first_pass = true;
     loop {
         let ahead: Vec<usize> = if dir > 0.0 {
-            order.iter().copied().filter(|&i| bench.parts[i].at_mm > from || first_pass && bench.parts[i].at_mm >= from).collect()
+            order
+                .iter()
+                .copied()
+                .filter(|&i| bench.parts[i].at_mm > from || first_pass && bench.parts[i].at_mm >= from)
+                .collect()
         } else {
             order.iter().rev().copied().filter(|&i| bench.parts[i].end_mm() < from).collect()
         };

@@ -7,8 +7,8 @@
 
 use crate::model::{Bench, FORMAT};
 use crate::validate::{Finding, Severity, validate};
-use serde::Deserialize;
 use std::fmt;
+use std::fmt::Write as _;
 use std::path::{Path, PathBuf};
 
 /// The largest bench file accepted, bytes (a bench with hundreds of parts is a few tens of kB).
@@ -74,20 +74,32 @@ pub struct Loaded {
 }
 
 fn at_start(file: &str, message: String) -> LoadError {
-    LoadError { diagnostics: vec![Diagnostic { file: file.into(), place: Place { line: 1, col: 1 }, severity: Severity::Error, message }] }
+    LoadError {
+        diagnostics: vec![Diagnostic {
+            file: file.into(),
+            place: Place { line: 1, col: 1 },
+            severity: Severity::Error,
+            message,
+        }],
+    }
 }
 
 /// Reads and validates the bench file at `path`.
 pub fn load(path: &Path) -> Result<Loaded, LoadError> {
     let name = path.display().to_string();
-    let meta = std::fs::metadata(path).map_err(|e| at_start(&name, format!("cannot read the file: {}", io_words(&e))))?;
+    let meta =
+        std::fs::metadata(path).map_err(|e| at_start(&name, format!("cannot read the file: {}", io_words(&e))))?;
     if meta.is_dir() {
         return Err(at_start(&name, "this is a directory, not a bench file".into()));
     }
     if meta.len() > MAX_FILE_BYTES {
         return Err(at_start(
             &name,
-            format!("the file is {} bytes; a bench file is at most {} bytes, so this is not one", meta.len(), MAX_FILE_BYTES),
+            format!(
+                "the file is {} bytes; a bench file is at most {} bytes, so this is not one",
+                meta.len(),
+                MAX_FILE_BYTES
+            ),
         ));
     }
     let bytes = std::fs::read(path).map_err(|e| at_start(&name, format!("cannot read the file: {}", io_words(&e))))?;
@@ -115,21 +127,27 @@ pub fn parse(file: &str, text: &str) -> Result<Loaded, LoadError> {
     if text.trim().is_empty() {
         return Err(at_start(file, "the file is empty; a bench file starts with `(` and holds format, title, rail_length_mm, wavelengths_nm, primary_wavelength, object and parts".into()));
     }
-    // Refuse a newer format before reading anything else, so that new fields are never misread.
-    #[derive(Deserialize)]
-    struct Probe {
-        format: Option<i64>,
-    }
-    if let Ok(Probe { format: Some(f) }) = ron::from_str::<Probe>(text)
-        && f != i64::from(FORMAT)
-    {
-        let place = Locator::new(text).key(0, text.len(), "format").unwrap_or(Place { line: 1, col: 1 });
-        let message = if f > i64::from(FORMAT) {
-            format!("this bench is format {f}, newer than this Lumenrail reads (format {FORMAT}); open it with a newer Lumenrail")
-        } else {
-            format!("format {f} is not a bench format (this Lumenrail reads format {FORMAT})")
-        };
-        return Err(LoadError { diagnostics: vec![Diagnostic { file: file.into(), place, severity: Severity::Error, message }] });
+    // Refuse another format before reading anything else, so that new fields are never misread. The
+    // number is read straight from the text, so that a newer file's unknown syntax cannot hide it.
+    let locator = Locator::new(text);
+    if let Some(offset) = locator.key_offset(0, text.len(), "format") {
+        let after = text[offset + "format".len()..].trim_start().trim_start_matches(':').trim_start();
+        let digits: String = after.chars().take_while(|c| c.is_ascii_digit()).collect();
+        if let Ok(f) = digits.parse::<u64>()
+            && f != u64::from(FORMAT)
+        {
+            let place = place_of_offset(text, offset);
+            let message = if f > u64::from(FORMAT) {
+                format!(
+                    "this bench is format {f}, newer than this Lumenrail reads (format {FORMAT}); open it with a newer Lumenrail"
+                )
+            } else {
+                format!("format {f} is not a bench format (this Lumenrail reads format {FORMAT})")
+            };
+            return Err(LoadError {
+                diagnostics: vec![Diagnostic { file: file.into(), place, severity: Severity::Error, message }],
+            });
+        }
     }
     let bench: Bench = ron::Options::default().with_recursion_limit(64).from_str(text).map_err(|e| LoadError {
         diagnostics: vec![Diagnostic {
@@ -140,7 +158,6 @@ pub fn parse(file: &str, text: &str) -> Result<Loaded, LoadError> {
         }],
     })?;
     let findings = validate(&bench);
-    let locator = Locator::new(text);
     let place = |f: &Finding| locator.finding(&bench, f);
     let diagnostics: Vec<Diagnostic> = findings
         .iter()
@@ -293,14 +310,28 @@ impl<'a> Locator<'a> {
     }
 }
 
-/// Writes `bench` as RON text, with the parts in rail order.
+/// Writes `bench` as RON text in the layout of the demo files: one line per field, one line per part,
+/// parts in rail order.
 pub fn to_text(bench: &Bench) -> String {
-    let mut sorted = bench.clone();
-    sorted.parts = bench.rail_order().into_iter().map(|i| bench.parts[i].clone()).collect();
-    let config = ron::ser::PrettyConfig::new().depth_limit(3).indentor("    ".to_string()).struct_names(false);
-    let mut text = ron::ser::to_string_pretty(&sorted, config).expect("a bench always serialises");
-    text.push('\n');
-    text
+    let mut t = String::from("(\n");
+    let _ = writeln!(t, "    format: {},", bench.format);
+    let _ = writeln!(t, "    title: {},", one_line(&bench.title));
+    let _ = writeln!(t, "    rail_length_mm: {},", one_line(&bench.rail_length_mm));
+    let _ = writeln!(t, "    wavelengths_nm: {},", one_line(&bench.wavelengths_nm));
+    let _ = writeln!(t, "    primary_wavelength: {},", bench.primary_wavelength);
+    let _ = writeln!(t, "    object: {},", one_line(&bench.object));
+    t.push_str("    parts: [\n");
+    for i in bench.rail_order() {
+        let _ = writeln!(t, "        {},", one_line(&bench.parts[i]));
+    }
+    t.push_str("    ],\n)\n");
+    t
+}
+
+/// A value as one line of RON with a space after each separator.
+fn one_line<T: serde::Serialize>(value: &T) -> String {
+    let config = ron::ser::PrettyConfig::new().depth_limit(0).separator(" ").struct_names(false);
+    ron::ser::to_string_pretty(value, config).expect("bench values always serialise")
 }
 
 /// Why a save failed (the old file, if any, is untouched).

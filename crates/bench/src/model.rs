@@ -58,7 +58,12 @@ pub struct Part {
     /// What the part is.
     pub kind: PartKind,
     /// Footprint of the part's carrier along the rail, mm, centred on the part (for collision checks).
-    #[serde(default, skip_serializing_if = "Option::is_none", deserialize_with = "plain_some")]
+    #[serde(
+        default,
+        skip_serializing_if = "Option::is_none",
+        deserialize_with = "plain_some",
+        serialize_with = "plain"
+    )]
     pub carrier_mm: Option<f64>,
 }
 
@@ -243,4 +248,12 @@ impl Bench {
 /// Reads an optional number written plainly (`carrier_mm: 25.0`, not `Some(25.0)`); absent means `None`.
 fn plain_some<'de, D: serde::Deserializer<'de>>(d: D) -> Result<Option<f64>, D::Error> {
     f64::deserialize(d).map(Some)
+}
+
+/// Writes an optional number plainly (skipped when absent, by `skip_serializing_if`).
+fn plain<S: serde::Serializer>(v: &Option<f64>, s: S) -> Result<S::Ok, S::Error> {
+    match v {
+        Some(x) => s.serialize_f64(*x),
+        None => s.serialize_none(),
+    }
 }

@@ -181,6 +181,12 @@ pub struct Report {
     pub trace_failure: Option<String>,
 }
 
+/// `v` with `digits` decimals, never "-0.000" for a value that rounds to zero.
+fn fixed(v: f64, digits: usize) -> String {
+    let s = format!("{v:.digits$}");
+    if s.starts_with('-') && s[1..].chars().all(|c| c == '0' || c == '.') { s[1..].to_string() } else { s }
+}
+
 fn um(mm: f64) -> f64 {
     mm * 1e3
 }
@@ -204,7 +210,8 @@ impl Report {
             trace_failure: None,
         };
         let findings = validate(bench);
-        let errors: Vec<String> = findings.iter().filter(|f| f.severity == Severity::Error).map(|f| f.message.clone()).collect();
+        let errors: Vec<String> =
+            findings.iter().filter(|f| f.severity == Severity::Error).map(|f| f.message.clone()).collect();
         report.warnings.extend(findings.iter().filter(|f| f.severity == Severity::Warning).map(|f| f.message.clone()));
         if !errors.is_empty() {
             report.primary_wavelength_nm = bench.primary_wavelength_nm().filter(|w| w.is_finite()).unwrap_or(0.0);
@@ -224,7 +231,11 @@ impl Report {
                 compile::MAX_REFLECTIONS
             ));
         }
-        let screens: Vec<usize> = bench.rail_order().into_iter().filter(|&i| matches!(bench.parts[i].kind, PartKind::Screen { .. })).collect();
+        let screens: Vec<usize> = bench
+            .rail_order()
+            .into_iter()
+            .filter(|&i| matches!(bench.parts[i].kind, PartKind::Screen { .. }))
+            .collect();
         let request = Request {
             object: compiled.object,
             wavelengths_nm: bench.wavelengths_nm.clone(),
@@ -295,7 +306,11 @@ impl Report {
                 height_mm: img.height_mm,
             });
         }
-        self.colour = a.colour.iter().map(|c| ColourFocus { wavelength_nm: c.wavelength_nm, image_at_mm: c.image_at_mm }).collect();
+        self.colour = a
+            .colour
+            .iter()
+            .map(|c| ColourFocus { wavelength_nm: c.wavelength_nm, image_at_mm: c.image_at_mm })
+            .collect();
         match &a.pupils {
             Ok(p) => {
                 let part = match p.stop {
@@ -370,7 +385,8 @@ impl Report {
         if let Some(s) = spot
             && s.blocked_share > 0.0
         {
-            self.warnings.push(format!("{:.1}% of the on-axis light is blocked before the image", 100.0 * s.blocked_share));
+            self.warnings
+                .push(format!("{:.1}% of the on-axis light is blocked before the image", 100.0 * s.blocked_share));
         }
         for (k, &i) in screens.iter().enumerate() {
             let p = &bench.parts[i];
@@ -402,7 +418,12 @@ impl Report {
                 if let Some(h) = self.images.last().and_then(|img| img.height_mm).filter(|h| h.abs() > half)
                     && self.images.last().and_then(|img| img.at_mm).is_some_and(|z| (z - p.at_mm).abs() < 1.0)
                 {
-                    self.warnings.push(format!("the image ({:.1} mm tall) does not fit screen \"{}\" ({:.1} mm across)", 2.0 * h.abs(), p.name, p.kind.diameter_mm()));
+                    self.warnings.push(format!(
+                        "the image ({:.1} mm tall) does not fit screen \"{}\" ({:.1} mm across)",
+                        2.0 * h.abs(),
+                        p.name,
+                        p.kind.diameter_mm()
+                    ));
                 }
             }
             self.screens.push(fig);
@@ -425,9 +446,8 @@ impl Report {
     /// The report as a text table for a person.
     pub fn to_text(&self) -> String {
         let mut t = String::new();
-        // `+ 0.0` turns a −0 into +0, so that a rounded zero never prints as "-0.000".
-        let mm = |v: Option<f64>| v.map_or_else(|| "—".to_string(), |v| format!("{:.3} mm", v + 0.0));
-        let at = |v: Option<f64>| v.map_or_else(|| "at infinity".to_string(), |v| format!("{:.3} mm", v + 0.0));
+        let mm = |v: Option<f64>| v.map_or_else(|| "—".to_string(), |v| format!("{} mm", fixed(v, 3)));
+        let at = |v: Option<f64>| v.map_or_else(|| "at infinity".to_string(), |v| format!("{} mm", fixed(v, 3)));
         let _ = writeln!(t, "{}", self.title);
         let _ = writeln!(t, "primary wavelength {} nm", self.primary_wavelength_nm);
         if let Some(f) = &self.trace_failure {
@@ -443,12 +463,22 @@ impl Report {
         }
         if let Some(s) = &self.stop {
             let _ = writeln!(t, "\nAperture stop: {} ({:.3} mm)", s.part, s.diameter_mm);
-            let _ = writeln!(t, "  entrance pupil {} , {} across", at(s.entrance_pupil_at_mm), mm(s.entrance_pupil_diameter_mm));
-            let _ = writeln!(t, "  exit pupil     {} , {} across", at(s.exit_pupil_at_mm), mm(s.exit_pupil_diameter_mm));
+            let _ = writeln!(
+                t,
+                "  entrance pupil {} , {} across",
+                at(s.entrance_pupil_at_mm),
+                mm(s.entrance_pupil_diameter_mm)
+            );
+            let _ =
+                writeln!(t, "  exit pupil     {} , {} across", at(s.exit_pupil_at_mm), mm(s.exit_pupil_diameter_mm));
         }
         if !self.images.is_empty() {
             let _ = writeln!(t, "\nImages");
-            let _ = writeln!(t, "  {:<16} {:>14}  {:<8} {:<9} {:>14}", "after part", "at", "kind", "way up", "magnification");
+            let _ = writeln!(
+                t,
+                "  {:<16} {:>14}  {:<8} {:<9} {:>14}",
+                "after part", "at", "kind", "way up", "magnification"
+            );
             for (k, img) in self.images.iter().enumerate() {
                 let last = if k + 1 == self.images.len() { " (final)" } else { "" };
                 let m = img.magnification.map_or_else(|| "—".to_string(), |m| format!("{m:.5}"));
@@ -465,7 +495,12 @@ impl Report {
         }
         if let Some(af) = &self.afocal {
             let _ = writeln!(t, "\nAfocal: angular magnification {:.4}", af.angular_magnification);
-            let _ = writeln!(t, "  exit pupil {} across, eye relief {}", mm(af.exit_pupil_diameter_mm), mm(af.eye_relief_mm));
+            let _ = writeln!(
+                t,
+                "  exit pupil {} across, eye relief {}",
+                mm(af.exit_pupil_diameter_mm),
+                mm(af.eye_relief_mm)
+            );
         }
         if !self.screens.is_empty() {
             let _ = writeln!(t, "\nScreens (on-axis point, primary wavelength)");
@@ -486,9 +521,18 @@ impl Report {
         }
         let ab = &self.aberrations;
         let _ = writeln!(t, "\nImage quality");
-        let _ = writeln!(t, "  marginal LSA {}   chromatic focal shift {}", mm(ab.marginal_lsa_mm), mm(ab.chromatic_focal_shift_mm));
+        let _ = writeln!(
+            t,
+            "  marginal LSA {}   chromatic focal shift {}",
+            mm(ab.marginal_lsa_mm),
+            mm(ab.chromatic_focal_shift_mm)
+        );
         if let (Some(n), Some(r)) = (ab.working_f_number, ab.airy_radius_um) {
-            let _ = writeln!(t, "  working f-number {n:.3}   Airy radius {r:.2} µm   depth of focus ±{}", mm(ab.depth_of_focus_mm));
+            let _ = writeln!(
+                t,
+                "  working f-number {n:.3}   Airy radius {r:.2} µm   depth of focus ±{}",
+                mm(ab.depth_of_focus_mm)
+            );
         }
         if let Some(v) = self.off_axis_transmission {
             let _ = writeln!(t, "  off-axis point keeps {:.1}% of its meridional pupil", 100.0 * v);

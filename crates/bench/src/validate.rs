@@ -100,7 +100,10 @@ impl Checker<'_> {
                 let hint = if unknown.suggestions.is_empty() {
                     String::from(" (run `lumenrail materials` for the list)")
                 } else {
-                    format!("; did you mean {}?", unknown.suggestions.iter().map(|s| format!("\"{s}\"")).collect::<Vec<_>>().join(" or "))
+                    format!(
+                        "; did you mean {}?",
+                        unknown.suggestions.iter().map(|s| format!("\"{s}\"")).collect::<Vec<_>>().join(" or ")
+                    )
                 };
                 self.error(Some(i), field, format!("{who}: unknown material \"{}\"{hint}", unknown.name));
             }
@@ -110,7 +113,10 @@ impl Checker<'_> {
                     return;
                 }
                 for &wl in &self.bench.wavelengths_nm {
-                    if wl.is_finite() && wl > 0.0 && let Err(e) = material.index_at(wl) {
+                    if wl.is_finite()
+                        && wl > 0.0
+                        && let Err(e) = material.index_at(wl)
+                    {
                         self.error(Some(i), field, format!("{who}: {e}"));
                         return;
                     }
@@ -137,14 +143,22 @@ impl Checker<'_> {
 pub fn validate(bench: &Bench) -> Vec<Finding> {
     let mut c = Checker { bench, findings: Vec::new() };
     if bench.format != crate::model::FORMAT {
-        c.error(None, "format", format!("format {} is not one this program reads (it reads format {})", bench.format, crate::model::FORMAT));
+        c.error(
+            None,
+            "format",
+            format!("format {} is not one this program reads (it reads format {})", bench.format, crate::model::FORMAT),
+        );
     }
     let rail_ok = c.positive(None, "rail_length_mm", "the rail length", bench.rail_length_mm);
     if bench.wavelengths_nm.is_empty() {
         c.error(None, "wavelengths_nm", "at least one wavelength is needed".into());
     }
     if bench.wavelengths_nm.len() > MAX_WAVELENGTHS {
-        c.error(None, "wavelengths_nm", format!("{} wavelengths is more than the {MAX_WAVELENGTHS} a bench may list", bench.wavelengths_nm.len()));
+        c.error(
+            None,
+            "wavelengths_nm",
+            format!("{} wavelengths is more than the {MAX_WAVELENGTHS} a bench may list", bench.wavelengths_nm.len()),
+        );
     }
     for &wl in &bench.wavelengths_nm {
         if !(wl.is_finite() && wl > 0.0) {
@@ -165,7 +179,11 @@ pub fn validate(bench: &Bench) -> Vec<Finding> {
     match bench.object {
         ObjectSpec::Point { at_mm, height_mm } => {
             if !at_mm.is_finite() || rail_ok && !(0.0..=bench.rail_length_mm).contains(&at_mm) {
-                c.error(None, "object", format!("the object at {at_mm} mm must lie on the rail (0 to {} mm)", bench.rail_length_mm));
+                c.error(
+                    None,
+                    "object",
+                    format!("the object at {at_mm} mm must lie on the rail (0 to {} mm)", bench.rail_length_mm),
+                );
             }
             if !height_mm.is_finite() {
                 c.error(None, "object", format!("the object height {height_mm} mm must be a finite number"));
@@ -187,7 +205,16 @@ pub fn validate(bench: &Bench) -> Vec<Finding> {
         if p.name.trim().is_empty() {
             c.error(Some(i), "name", format!("the {} at {} mm needs a name", p.kind.word(), p.at_mm));
         } else if let Some(first) = bench.parts[..i].iter().position(|q| q.name == p.name) {
-            c.error(Some(i), "name", format!("two parts are named \"{}\" (part {} and part {}); names must be unique", p.name, first + 1, i + 1));
+            c.error(
+                Some(i),
+                "name",
+                format!(
+                    "two parts are named \"{}\" (part {} and part {}); names must be unique",
+                    p.name,
+                    first + 1,
+                    i + 1
+                ),
+            );
         }
     }
     // Each part's own numbers.
@@ -202,7 +229,11 @@ pub fn validate(bench: &Bench) -> Vec<Finding> {
         match &p.kind {
             PartKind::ThinLens { focal_mm, .. } => {
                 if !focal_mm.is_finite() || *focal_mm == 0.0 {
-                    c.error(Some(i), "focal_mm", format!("{who}: focal length {focal_mm} mm must be a finite, non-zero number"));
+                    c.error(
+                        Some(i),
+                        "focal_mm",
+                        format!("{who}: focal length {focal_mm} mm must be a finite, non-zero number"),
+                    );
                 }
             }
             PartKind::Singlet { front, back, thickness_mm, material, .. } => {
@@ -217,7 +248,9 @@ pub fn validate(bench: &Bench) -> Vec<Finding> {
             PartKind::Doublet { front, middle, back, thickness1_mm, thickness2_mm, material1, material2, .. } => {
                 let t1 = c.positive(Some(i), "thickness1_mm", "the first centre thickness", *thickness1_mm);
                 let t2 = c.positive(Some(i), "thickness2_mm", "the second centre thickness", *thickness2_mm);
-                let s_ok = c.surface(i, "front", front, semi) & c.surface(i, "middle", middle, semi) & c.surface(i, "back", back, semi);
+                let s_ok = c.surface(i, "front", front, semi)
+                    & c.surface(i, "middle", middle, semi)
+                    & c.surface(i, "back", back, semi);
                 c.material(i, "material1", material1);
                 c.material(i, "material2", material2);
                 if t1 && t2 && s_ok && d_ok {
@@ -238,7 +271,10 @@ pub fn validate(bench: &Bench) -> Vec<Finding> {
             c.error(
                 Some(i),
                 "at_mm",
-                format!("{who} at {} mm lies beyond the rail, which runs from 0 to {} mm", p.at_mm, bench.rail_length_mm),
+                format!(
+                    "{who} at {} mm lies beyond the rail, which runs from 0 to {} mm",
+                    p.at_mm, bench.rail_length_mm
+                ),
             );
         }
     }
@@ -253,7 +289,11 @@ pub fn validate(bench: &Bench) -> Vec<Finding> {
             if let (Some(ga), Some(gb)) = (c.glass_span(pa), c.glass_span(pb)) {
                 let overlap = ga.1.min(gb.1) - ga.0.max(gb.0);
                 if overlap > 0.0 {
-                    let msg = format!("{} and {} overlap by {overlap:.3} mm of glass; they cannot both be built there", c.who(a), c.who(b));
+                    let msg = format!(
+                        "{} and {} overlap by {overlap:.3} mm of glass; they cannot both be built there",
+                        c.who(a),
+                        c.who(b)
+                    );
                     c.error(Some(b), "at_mm", msg);
                 }
             }
@@ -264,7 +304,14 @@ pub fn validate(bench: &Bench) -> Vec<Finding> {
                     && pt.at_mm > g.0
                     && pt.at_mm < g.1
                 {
-                    let msg = format!("{} at {} mm lies inside the glass of {} ({:.3} to {:.3} mm)", c.who(thin), pt.at_mm, c.who(solid), g.0, g.1);
+                    let msg = format!(
+                        "{} at {} mm lies inside the glass of {} ({:.3} to {:.3} mm)",
+                        c.who(thin),
+                        pt.at_mm,
+                        c.who(solid),
+                        g.0,
+                        g.1
+                    );
                     c.error(Some(thin), "at_mm", msg);
                 }
             }
@@ -289,14 +336,20 @@ fn edge_check(c: &mut Checker<'_>, i: usize, surfaces: &[SurfaceSpec], thickness
         let edge = t + sags[k + 1] - sags[k];
         if edge <= 0.0 {
             let which = if thicknesses.len() > 1 { format!(" (element {})", k + 1) } else { String::new() };
-            let field = if thicknesses.len() > 1 { if k == 0 { "thickness1_mm" } else { "thickness2_mm" } } else { "thickness_mm" };
+            let field = if thicknesses.len() > 1 {
+                if k == 0 { "thickness1_mm" } else { "thickness2_mm" }
+            } else {
+                "thickness_mm"
+            };
             let who = c.who(i);
             c.error(
                 Some(i),
                 field,
-                format!("{who}{which}: the edge thickness is {edge:.3} mm; its surfaces cross inside the {:.3} mm diameter", 2.0 * semi_mm),
+                format!(
+                    "{who}{which}: the edge thickness is {edge:.3} mm; its surfaces cross inside the {:.3} mm diameter",
+                    2.0 * semi_mm
+                ),
             );
         }
     }
 }
-

@@ -195,7 +195,8 @@ fn lanes_at<V: Lane, const SHAPE: u8, const ACTION: u8>(
     i: usize,
 ) {
     let w = V::WIDTH;
-    let (y, z, m, l) = (V::load(&b.y[i..i + w]), V::load(&b.z[i..i + w]), V::load(&b.m[i..i + w]), V::load(&b.l[i..i + w]));
+    let (y, z, m, l) =
+        (V::load(&b.y[i..i + w]), V::load(&b.z[i..i + w]), V::load(&b.m[i..i + w]), V::load(&b.l[i..i + w]));
     let (opl, fate) = (V::load(&b.opl[i..i + w]), V::load(&b.fate[i..i + w]));
     let h = hit::<V, SHAPE, ACTION>(k, y, z, m, l);
     let zero = V::splat(0.0);

@@ -1,0 +1,112 @@
+//! Saving and loading: round trips, atomic saves, placed errors.
+
+use lumenrail_bench::demos::DEMOS;
+use lumenrail_bench::file::{load, parse, save, to_text};
+use lumenrail_bench::model::{Bench, MaterialSpec, ObjectSpec, Part, PartKind, SurfaceSpec};
+use proptest::prelude::*;
+
+fn dir() -> std::path::PathBuf {
+    let d = std::env::temp_dir().join(format!("lumenrail-file-{}", std::process::id()));
+    std::fs::create_dir_all(&d).unwrap();
+    d
+}
+
+#[test]
+fn every_demo_round_trips_through_save_and_load() {
+    for d in DEMOS {
+        let bench = parse(d.name, d.text).unwrap().bench;
+        let path = dir().join(format!("{}.bench.ron", d.name));
+        save(&bench, &path).unwrap();
+        let again = load(&path).unwrap().bench;
+        let mut sorted = bench.clone();
+        sorted.parts = bench.rail_order().into_iter().map(|i| bench.parts[i].clone()).collect();
+        assert_eq!(again, sorted, "{}", d.name);
+    }
+}
+
+#[test]
+fn a_failed_save_leaves_the_old_file_intact() {
+    let bench = parse("demo", DEMOS[0].text).unwrap().bench;
+    let dir = dir().join("failed-save");
+    std::fs::create_dir_all(&dir).unwrap();
+    let path = dir.join("keep.bench.ron");
+    save(&bench, &path).unwrap();
+    let before = std::fs::read(&path).unwrap();
+    // Saving into a directory that does not exist fails before anything is renamed.
+    assert!(save(&bench, &dir.join("missing-dir").join("x.bench.ron")).is_err());
+    // Saving over a directory fails at the rename; the temporary file is cleaned up.
+    let over = dir.join("a-dir.bench.ron");
+    std::fs::create_dir_all(&over).unwrap();
+    assert!(save(&bench, &over).is_err());
+    let leftovers: Vec<_> = std::fs::read_dir(&dir)
+        .unwrap()
+        .filter_map(Result::ok)
+        .filter(|e| e.file_name().to_string_lossy().ends_with(".tmp"))
+        .collect();
+    assert!(leftovers.is_empty());
+    assert_eq!(std::fs::read(&path).unwrap(), before);
+}
+
+fn surface() -> impl Strategy<Value = SurfaceSpec> {
+    prop_oneof![
+        Just(SurfaceSpec::Flat),
+        prop_oneof![-500.0..-30.0f64, 30.0..500.0f64].prop_map(SurfaceSpec::Radius),
+        (prop_oneof![-500.0..-30.0f64, 30.0..500.0f64], -3.0..1.0f64)
+            .prop_map(|(radius, conic)| SurfaceSpec::Conic { radius, conic }),
+    ]
+}
+
+fn material() -> impl Strategy<Value = MaterialSpec> {
+    prop_oneof![
+        Just(MaterialSpec::Named("fused-silica".into())),
+        (1.3..2.0f64).prop_map(MaterialSpec::Index),
+        (1.4..1.9f64, 20.0..90.0f64).prop_map(|(nd, vd)| MaterialSpec::Abbe { nd, vd }),
+        Just(MaterialSpec::Sellmeier { b: vec![1.1819], c: vec![0.011313] }),
+    ]
+}
+
+fn kind() -> impl Strategy<Value = PartKind> {
+    prop_oneof![
+        (prop_oneof![-300.0..-5.0f64, 5.0..300.0f64], 1.0..50.0f64)
+            .prop_map(|(focal_mm, diameter_mm)| PartKind::ThinLens { focal_mm, diameter_mm }),
+        (surface(), surface(), 1.0..10.0f64, 5.0..25.0f64, material()).prop_map(
+            |(front, back, thickness_mm, diameter_mm, material)| PartKind::Singlet {
+                front,
+                back,
+                thickness_mm,
+                diameter_mm,
+                material
+            }
+        ),
+        (1.0..30.0f64).prop_map(|diameter_mm| PartKind::Iris { diameter_mm }),
+        (1.0..80.0f64).prop_map(|diameter_mm| PartKind::Screen { diameter_mm }),
+        (surface(), 5.0..50.0f64).prop_map(|(surface, diameter_mm)| PartKind::Mirror { surface, diameter_mm }),
+    ]
+}
+
+proptest! {
+    #![proptest_config(ProptestConfig { cases: 128, ..ProptestConfig::default() })]
+
+    /// Save then load gives the same bench (parts in rail order), whatever its numbers.
+    #[test]
+    fn saving_and_loading_round_trips(
+        title in "[ -~]{0,40}",
+        parts in prop::collection::vec(("[A-Za-z0-9 ]{1,12}", 0.0..900.0f64, kind(), prop::option::of(0.0..40.0f64)), 0..8),
+        distant in any::<bool>(),
+    ) {
+        let bench = Bench {
+            format: 1,
+            title,
+            rail_length_mm: 1000.0,
+            wavelengths_nm: vec![486.1327, 587.5618],
+            primary_wavelength: 1,
+            object: if distant { ObjectSpec::Distant { field_deg: 1.5, beam_diameter_mm: 8.0 } } else { ObjectSpec::Point { at_mm: 0.0, height_mm: -2.5 } },
+            parts: parts.into_iter().map(|(name, at_mm, kind, carrier_mm)| Part { name, at_mm, kind, carrier_mm }).collect(),
+        };
+        let text = to_text(&bench);
+        let back: Bench = ron::from_str(&text).unwrap();
+        let mut sorted = bench.clone();
+        sorted.parts = bench.rail_order().into_iter().map(|i| bench.parts[i].clone()).collect();
+        prop_assert_eq!(back, sorted);
+    }
+}

@@ -1,0 +1,263 @@
+//! End-to-end tests of the real `lumenrail` binary: demos, reports, and bad input of every kind. Bad input
+//! must exit 2 with a `file:line:col: message` naming the problem, and never panic.
+
+use std::path::{Path, PathBuf};
+use std::process::{Command, Output};
+
+fn bin() -> Command {
+    Command::new(env!("CARGO_BIN_EXE_lumenrail"))
+}
+
+fn run(args: &[&str]) -> Output {
+    bin().args(args).output().expect("the binary runs")
+}
+
+fn scratch(name: &str) -> PathBuf {
+    let dir = std::env::temp_dir().join(format!("lumenrail-cli-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).unwrap();
+    dir.join(name)
+}
+
+fn write(name: &str, contents: impl AsRef<[u8]>) -> PathBuf {
+    let p = scratch(name);
+    std::fs::write(&p, contents).unwrap();
+    p
+}
+
+fn stderr(o: &Output) -> String {
+    String::from_utf8_lossy(&o.stderr).into_owned()
+}
+
+fn demo(name: &str) -> String {
+    String::from_utf8(run(&["demos", name]).stdout).unwrap()
+}
+
+/// Runs `check` and `report` on `path`; both must exit 2, print `path:line:col:` and the expected words,
+/// and not panic.
+fn assert_bad(path: &Path, line: Option<usize>, words: &[&str]) {
+    for args in [vec!["check"], vec!["report"], vec!["report", "--json"]] {
+        let mut a = args.clone();
+        let p = path.to_str().unwrap();
+        a.push(p);
+        let o = run(&a);
+        let err = stderr(&o);
+        assert_eq!(o.status.code(), Some(2), "{a:?}: {err}");
+        assert!(!err.contains("panicked"), "{err}");
+        let first = err.lines().next().unwrap_or("");
+        assert!(first.starts_with(&format!("{p}:")), "{first}");
+        let place: Vec<&str> = first[p.len() + 1..].splitn(3, ':').collect();
+        let l: usize = place[0].parse().unwrap_or_else(|_| panic!("line in {first}"));
+        let _: usize = place[1].parse().unwrap_or_else(|_| panic!("column in {first}"));
+        if let Some(line) = line {
+            assert_eq!(l, line, "{first}");
+        }
+        for w in words {
+            assert!(err.contains(w), "expected {w:?} in {err}");
+        }
+        assert!(o.stdout.is_empty() || args.len() == 1, "no report for a bad file");
+    }
+}
+
+/// The one-lens demo with one piece of text replaced.
+fn edited(from: &str, to: &str) -> String {
+    let text = demo("one-lens-screen");
+    assert!(text.contains(from), "{from}");
+    text.replacen(from, to, 1)
+}
+
+#[test]
+fn demos_list_and_print_and_report() {
+    let o = run(&["demos"]);
+    assert!(o.status.success());
+    let list = String::from_utf8(o.stdout).unwrap();
+    assert!(list.lines().count() >= 10);
+    for name in list.lines().map(|l| l.split_whitespace().next().unwrap()) {
+        let p = write(&format!("{name}.bench.ron"), demo(name));
+        let o = run(&["check", p.to_str().unwrap()]);
+        assert!(o.status.success(), "{name}: {}", stderr(&o));
+        let o = run(&["report", "--json", p.to_str().unwrap()]);
+        assert!(o.status.success(), "{name}: {}", stderr(&o));
+        let v: serde_json::Value = serde_json::from_slice(&o.stdout).unwrap();
+        for key in [
+            "title",
+            "primary_wavelength_nm",
+            "first_order",
+            "stop",
+            "images",
+            "screens",
+            "aberrations",
+            "afocal",
+            "warnings",
+        ] {
+            assert!(v.get(key).is_some(), "{name}: key {key}");
+        }
+        for key in [
+            "efl_mm",
+            "bfl_mm",
+            "ffl_mm",
+            "front_focus_at_mm",
+            "back_focus_at_mm",
+            "front_principal_at_mm",
+            "back_principal_at_mm",
+        ] {
+            assert!(v["first_order"].get(key).is_some(), "{name}: first_order.{key}");
+        }
+        for key in ["marginal_lsa_mm", "chromatic_focal_shift_mm", "airy_radius_um", "working_f_number"] {
+            assert!(v["aberrations"].get(key).is_some(), "{name}: aberrations.{key}");
+        }
+        let text = run(&["report", p.to_str().unwrap()]);
+        assert!(String::from_utf8(text.stdout).unwrap().contains("Images"));
+    }
+    let o = run(&["demos", "one-lens-scren"]);
+    assert_eq!(o.status.code(), Some(2));
+    assert!(stderr(&o).contains("one-lens-screen"));
+}
+
+#[test]
+fn report_json_has_the_image_figures() {
+    let p = write("one.bench.ron", demo("one-lens-screen"));
+    let o = run(&["report", "--json", p.to_str().unwrap()]);
+    let v: serde_json::Value = serde_json::from_slice(&o.stdout).unwrap();
+    let img = &v["images"][0];
+    assert_eq!(img["after_part"], "Projection lens");
+    assert!((img["at_mm"].as_f64().unwrap() - 450.0).abs() < 1e-9);
+    assert!((img["magnification"].as_f64().unwrap() + 0.5).abs() < 1e-12);
+    assert_eq!(img["real"], true);
+    assert_eq!(img["erect"], false);
+    assert_eq!(v["screens"][0]["part"], "Screen");
+    assert!(v["afocal"].is_null());
+}
+
+#[test]
+fn empty_and_truncated_files() {
+    assert_bad(&write("empty.bench.ron", ""), Some(1), &["empty"]);
+    let text = demo("one-lens-screen");
+    assert_bad(&write("truncated.bench.ron", &text[..text.len() / 2]), None, &[]);
+}
+
+#[test]
+fn wrong_type_unknown_kind_unknown_field() {
+    assert_bad(
+        &write("type.bench.ron", edited("rail_length_mm: 1000.0", "rail_length_mm: \"long\"")),
+        Some(5),
+        &["float"],
+    );
+    assert_bad(
+        &write("kind.bench.ron", edited("kind: Screen(diameter_mm: 80.0)", "kind: Prism(diameter_mm: 80.0)")),
+        Some(11),
+        &["Prism", "Screen"],
+    );
+    assert_bad(
+        &write("field.bench.ron", edited("Screen(diameter_mm: 80.0)", "Screen(diamter_mm: 80.0)")),
+        Some(11),
+        &["diamter_mm", "diameter_mm"],
+    );
+    assert_bad(&write("top.bench.ron", edited("title:", "colour: 1,\n    title:")), Some(4), &["colour"]);
+}
+
+#[test]
+fn unknown_material_suggests_the_nearest_names() {
+    let text = demo("plano-convex-curved-first").replace("Named(\"517642\")", "Named(\"fused-silca\")");
+    assert_bad(&write("glass.bench.ron", text), Some(11), &["fused-silca", "fused-silica", "PCX 100"]);
+}
+
+#[test]
+fn bad_numbers_name_the_part_and_the_field() {
+    for bad in ["-5.0", "0.0", "NaN", "inf"] {
+        let p = write(&format!("num{bad}.bench.ron"), edited("diameter_mm: 40.0", &format!("diameter_mm: {bad}")));
+        assert_bad(&p, Some(10), &["Projection lens", "diameter"]);
+    }
+    let p = write("focal.bench.ron", edited("focal_mm: 100.0", "focal_mm: 0.0"));
+    assert_bad(&p, Some(10), &["Projection lens", "focal length"]);
+    let p = write("radius0.bench.ron", demo("plano-convex-curved-first").replace("Radius(51.7)", "Radius(0.0)"));
+    assert_bad(&p, Some(11), &["Flat"]);
+    let p = write("edge.bench.ron", demo("colour-singlet").replace("Radius(103.4)", "Radius(13.0)"));
+    assert_bad(&p, Some(11), &["edge thickness"]);
+    let p = write("small-r.bench.ron", demo("colour-singlet").replace("Radius(103.4)", "Radius(10.0)"));
+    assert_bad(&p, Some(11), &["smaller than the semi-diameter"]);
+    let p = write("wl.bench.ron", demo("colour-singlet").replace("486.1327", "250.0"));
+    assert_bad(&p, Some(11), &["250 nm", "outside"]);
+}
+
+#[test]
+fn newer_format_is_refused_clearly() {
+    let p = write("format.bench.ron", edited("format: 1", "format: 99,\n    lens_coatings: []"));
+    assert_bad(&p, Some(3), &["format 99", "newer"]);
+}
+
+#[test]
+fn duplicate_names_overlapping_glass_and_parts_off_the_rail() {
+    let p = write("dup.bench.ron", edited("name: \"Screen\"", "name: \"Projection lens\""));
+    assert_bad(&p, Some(11), &["Projection lens", "unique"]);
+    let glass = demo("colour-singlet").replace(
+        "        (name: \"Screen\"",
+        "        (name: \"Second lens\", at_mm: 52.0, kind: Singlet(front: Radius(103.4), back: Radius(-103.4), thickness_mm: 5.0, diameter_mm: 25.0, material: Named(\"517642\"))),\n        (name: \"Screen\"",
+    );
+    assert_bad(&write("overlap.bench.ron", glass), Some(12), &["overlap", "Crown singlet", "Second lens"]);
+    let p = write("beyond.bench.ron", edited("at_mm: 450.0", "at_mm: 1450.0"));
+    assert_bad(&p, Some(11), &["Screen", "beyond the rail"]);
+}
+
+#[test]
+fn carriers_that_overlap_are_a_warning_not_an_error() {
+    let p = write("carrier.bench.ron", edited("at_mm: 450.0", "at_mm: 310.0"));
+    let o = run(&["check", p.to_str().unwrap()]);
+    assert_eq!(o.status.code(), Some(0), "{}", stderr(&o));
+    assert!(stderr(&o).contains(":11:") && stderr(&o).contains("warning: the carriers"), "{}", stderr(&o));
+    assert!(stderr(&o).contains("15.0 mm"), "{}", stderr(&o));
+}
+
+#[test]
+fn garbage_binary_directories_and_missing_files() {
+    let garbage: Vec<u8> = (0..20_000_000u32).map(|i| (i.wrapping_mul(2_654_435_761) >> 24) as u8).collect();
+    assert_bad(&write("garbage.bench.ron", garbage), Some(1), &["at most"]);
+    let mut bytes = demo("one-lens-screen").into_bytes();
+    bytes.splice(40..40, [0xff, 0xfe, 0x00]);
+    assert_bad(&write("binary.bench.ron", bytes), Some(1), &["UTF-8"]);
+    let dir = scratch("a-directory.bench.ron");
+    std::fs::create_dir_all(&dir).unwrap();
+    assert_bad(&dir, Some(1), &["directory"]);
+    assert_bad(&scratch("no-such-file.bench.ron"), Some(1), &["no such file"]);
+    assert_bad(&write("text.bench.ron", "hello, optics"), Some(1), &[]);
+    assert_bad(&write("deep.bench.ron", "(".repeat(10_000)), None, &[]);
+}
+
+#[test]
+fn untraceable_benches_exit_1_and_say_which_part_and_why() {
+    // A strongly curved back surface: the edge of the on-axis beam meets it beyond the critical angle.
+    let tir = demo("plano-convex-curved-first").replace(
+        "Singlet(front: Radius(51.7), back: Flat, thickness_mm: 5.0, diameter_mm: 25.4, material: Named(\"517642\"))",
+        "Singlet(front: Flat, back: Radius(-14.0), thickness_mm: 14.0, diameter_mm: 25.4, material: Named(\"785258\"))",
+    );
+    let p = write("tir.bench.ron", tir);
+    let o = run(&["report", p.to_str().unwrap()]);
+    assert_eq!(o.status.code(), Some(1), "{}", stderr(&o));
+    let out = String::from_utf8(o.stdout).unwrap();
+    assert!(out.contains("total internal reflection") && out.contains("PCX 100"), "{out}");
+    let o = run(&["report", "--json", p.to_str().unwrap()]);
+    assert_eq!(o.status.code(), Some(1));
+    let v: serde_json::Value = serde_json::from_slice(&o.stdout).unwrap();
+    assert!(v["trace_failure"].as_str().unwrap().contains("PCX 100"));
+    // `check` only validates: the bench is valid.
+    assert_eq!(run(&["check", p.to_str().unwrap()]).status.code(), Some(0));
+
+    let screens_only = demo("one-lens-screen").replace(
+        "        (name: \"Projection lens\", at_mm: 300.0, kind: ThinLens(focal_mm: 100.0, diameter_mm: 40.0), carrier_mm: 25.0),\n",
+        "",
+    );
+    let p = write("screens.bench.ron", screens_only);
+    let o = run(&["report", p.to_str().unwrap()]);
+    assert_eq!(o.status.code(), Some(1), "{}", stderr(&o));
+}
+
+#[test]
+fn help_reads_well_and_carries_the_safety_caution() {
+    let o = run(&["--help"]);
+    assert!(o.status.success());
+    let h = String::from_utf8(o.stdout).unwrap();
+    for w in ["report", "check", "demos", "materials", "sun", "laser"] {
+        assert!(h.contains(w), "{w}");
+    }
+    let o = run(&["materials"]);
+    assert!(String::from_utf8(o.stdout).unwrap().contains("Malitson"));
+}
