@@ -241,6 +241,18 @@ fn untraceable_benches_exit_1_and_say_which_part_and_why() {
     // `check` only validates: the bench is valid.
     assert_eq!(run(&["check", p.to_str().unwrap()]).status.code(), Some(0));
 
+    // A pinhole at the paraxial focus of a lens with strong spherical aberration: the real rays from the
+    // edge of the stop cross the axis well before it and are blocked.
+    let pinhole = demo("plano-convex-flat-first").replace(
+        "        (name: \"Screen\"",
+        "        (name: \"Pinhole\", at_mm: 155.0, kind: Iris(diameter_mm: 0.01)),\n        (name: \"Screen\"",
+    );
+    let p = write("pinhole.bench.ron", pinhole);
+    let o = run(&["report", p.to_str().unwrap()]);
+    assert_eq!(o.status.code(), Some(1), "{}", stderr(&o));
+    let out = String::from_utf8(o.stdout).unwrap();
+    assert!(out.contains("blocked by \"Pinhole\""), "{out}");
+
     let screens_only = demo("one-lens-screen").replace(
         "        (name: \"Projection lens\", at_mm: 300.0, kind: ThinLens(focal_mm: 100.0, diameter_mm: 40.0), carrier_mm: 25.0),\n",
         "",
