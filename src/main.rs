@@ -18,8 +18,13 @@ get hot. For anything about eyes or eyewear, ask an eye-care professional.";
 
 /// Lay out optical benches and ray-trace them exactly.
 #[derive(Parser)]
-#[command(name = "lumenrail", version, about, after_help = SAFETY)]
+#[command(name = "lumenrail", version, about, after_help = SAFETY, args_conflicts_with_subcommands = true)]
 struct Cli {
+    /// A bench file to open in the workbench (default: a built-in demo bench).
+    file: Option<PathBuf>,
+    /// Open the window, let the layout settle, write a PNG of it to this path, and exit.
+    #[arg(long, value_name = "OUT.png")]
+    screenshot: Option<PathBuf>,
     #[command(subcommand)]
     command: Option<Command>,
 }
@@ -51,12 +56,13 @@ enum Command {
 fn main() -> ExitCode {
     let cli = Cli::parse();
     match cli.command {
-        None => {
-            let mut cmd = <Cli as clap::CommandFactory>::command();
-            let _ = cmd.print_help();
-            println!("\nThe desktop workbench is not built yet; `lumenrail demos` lists benches to report on.");
-            ExitCode::SUCCESS
-        }
+        None => match lumenrail_workbench::app::run(cli.file, cli.screenshot) {
+            Ok(()) => ExitCode::SUCCESS,
+            Err(e) => {
+                eprintln!("lumenrail: {e}");
+                ExitCode::from(2)
+            }
+        },
         Some(Command::Report { file, json }) => report(&file, json),
         Some(Command::Check { file }) => check(&file),
         Some(Command::Demos { name }) => demos_cmd(name.as_deref()),

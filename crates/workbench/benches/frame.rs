@@ -1,0 +1,29 @@
+//! The per-frame work while a part is dragged: the report and the traced scene recomputed from the bench,
+//! for every demo bench.
+#![allow(missing_docs)] // criterion_group! generates undocumented items.
+
+use criterion::{Criterion, criterion_group, criterion_main};
+use lumenrail_bench::demos::DEMOS;
+use lumenrail_bench::report::Report;
+use lumenrail_workbench::scene::Scene;
+use std::hint::black_box;
+
+fn drag_recompute(c: &mut Criterion) {
+    let mut g = c.benchmark_group("drag_recompute");
+    for d in DEMOS {
+        let mut bench = lumenrail_bench::file::parse(d.name, d.text).unwrap().bench;
+        g.bench_function(d.name, |b| {
+            let mut k = 0u32;
+            b.iter(|| {
+                // Move the first part by a hair each frame, as a drag does.
+                k = k.wrapping_add(1);
+                bench.parts[0].at_mm += if k.is_multiple_of(2) { 0.01 } else { -0.01 };
+                (black_box(Report::of(&bench)), black_box(Scene::of(&bench)))
+            })
+        });
+    }
+    g.finish();
+}
+
+criterion_group!(benches, drag_recompute);
+criterion_main!(benches);

@@ -1,0 +1,200 @@
+//! The window around the workbench: title with the unsaved mark, asking before closing with unsaved
+//! changes, opening dropped bench files, persisted settings, and the headless screenshot mode.
+
+use crate::Workbench;
+use serde::{Deserialize, Serialize};
+use std::path::PathBuf;
+use std::sync::{Arc, Mutex};
+
+/// UI preferences kept between sessions (never the bench itself).
+#[derive(Debug, Clone, Serialize, Deserialize)]
+#[serde(default)]
+pub struct Settings {
+    /// Snap step, mm.
+    pub snap_mm: f64,
+    /// Vertical exaggeration (0 = automatic).
+    pub exaggeration: f32,
+    /// Recently opened or saved files, newest first.
+    pub recent: Vec<PathBuf>,
+}
+
+impl Default for Settings {
+    fn default() -> Settings {
+        Settings { snap_mm: 1.0, exaggeration: 0.0, recent: Vec::new() }
+    }
+}
+
+/// The eframe application.
+pub struct WorkbenchApp {
+    /// The workbench.
+    pub workbench: Workbench,
+    settings: Settings,
+    confirm_close: bool,
+    allow_close: bool,
+    last_title: String,
+    screenshot: Option<Screenshot>,
+}
+
+/// Writes one PNG of the window after the layout has settled, then closes.
+struct Screenshot {
+    out: PathBuf,
+    frames: u32,
+    requested: bool,
+    done: Arc<Mutex<Option<Result<(), String>>>>,
+}
+
+impl WorkbenchApp {
+    /// A window on `workbench`, with settings from eframe's storage; with `screenshot`, it saves a PNG and
+    /// exits.
+    pub fn new(
+        cc: &eframe::CreationContext<'_>,
+        mut workbench: Workbench,
+        screenshot: Option<PathBuf>,
+    ) -> WorkbenchApp {
+        let settings: Settings = cc.storage.and_then(|s| eframe::get_value(s, eframe::APP_KEY)).unwrap_or_default();
+        workbench.snap_mm = settings.snap_mm;
+        workbench.exaggeration = settings.exaggeration;
+        WorkbenchApp {
+            workbench,
+            settings,
+            confirm_close: false,
+            allow_close: false,
+            last_title: String::new(),
+            screenshot: screenshot.map(|out| Screenshot {
+                out,
+                frames: 0,
+                requested: false,
+                done: Arc::new(Mutex::new(None)),
+            }),
+        }
+    }
+
+    fn remember(&mut self) {
+        if let Some(p) = &self.workbench.path {
+            self.settings.recent.retain(|q| q != p);
+            self.settings.recent.insert(0, p.clone());
+            self.settings.recent.truncate(8);
+        }
+    }
+}
+
+impl eframe::App for WorkbenchApp {
+    fn ui(&mut self, ui: &mut egui::Ui, _frame: &mut eframe::Frame) {
+        let ctx = ui.ctx().clone();
+        // Files dropped on the window.
+        let dropped: Vec<PathBuf> = ctx.input(|i| {
+            i.raw.dropped_files.iter().map(|f| f.path().to_path_buf()).filter(|p| !p.as_os_str().is_empty()).collect()
+        });
+        if let Some(p) = dropped.into_iter().next() {
+            self.workbench.open(p);
+        }
+        self.workbench.ui(ui);
+        self.remember();
+        if !self.settings.recent.is_empty() {
+            egui::Window::new("Recent files")
+                .default_open(false)
+                .anchor(egui::Align2::RIGHT_BOTTOM, egui::vec2(-8.0, -30.0))
+                .show(&ctx, |ui| {
+                    for p in self.settings.recent.clone() {
+                        if ui.button(p.display().to_string()).clicked() {
+                            self.workbench.open(p);
+                        }
+                    }
+                });
+        }
+        let title = self.workbench.title();
+        if title != self.last_title {
+            ctx.send_viewport_cmd(egui::ViewportCommand::Title(title.clone()));
+            self.last_title = title;
+        }
+        // Ask before closing with unsaved changes.
+        if ctx.input(|i| i.viewport().close_requested())
+            && self.workbench.dirty()
+            && !self.allow_close
+            && self.screenshot.is_none()
+        {
+            ctx.send_viewport_cmd(egui::ViewportCommand::CancelClose);
+            self.confirm_close = true;
+        }
+        if self.confirm_close {
+            egui::Modal::new(egui::Id::unique("confirm-close")).show(&ctx, |ui| {
+                ui.label("The bench has unsaved changes. Close anyway?");
+                ui.horizontal(|ui| {
+                    if ui.button("Close without saving").clicked() {
+                        self.allow_close = true;
+                        ctx.send_viewport_cmd(egui::ViewportCommand::Close);
+                    }
+                    if ui.button("Keep working").clicked() {
+                        self.confirm_close = false;
+                    }
+                });
+            });
+        }
+        self.screenshot_step(&ctx);
+    }
+
+    fn save(&mut self, storage: &mut dyn eframe::Storage) {
+        self.settings.snap_mm = self.workbench.snap_mm;
+        self.settings.exaggeration = self.workbench.exaggeration;
+        eframe::set_value(storage, eframe::APP_KEY, &self.settings);
+    }
+}
+
+impl WorkbenchApp {
+    fn screenshot_step(&mut self, ctx: &egui::Context) {
+        let Some(s) = &mut self.screenshot else { return };
+        s.frames += 1;
+        ctx.request_repaint();
+        if s.frames == 10 && !s.requested {
+            s.requested = true;
+            let out = s.out.clone();
+            let done = s.done.clone();
+            ctx.send_viewport_cmd(egui::ViewportCommand::Screenshot(egui::ScreenshotCallback::new(
+                move |img: Arc<egui::ColorImage>| {
+                    let [w, h] = img.size;
+                    let bytes: Vec<u8> = img.pixels.iter().flat_map(|c| c.to_array()).collect();
+                    let result = image::RgbaImage::from_raw(w as u32, h as u32, bytes)
+                        .ok_or_else(|| "the screenshot has the wrong size".to_string())
+                        .and_then(|im| im.save(&out).map_err(|e| e.to_string()));
+                    *done.lock().expect("screenshot lock") = Some(result);
+                },
+            )));
+        }
+        let finished = s.done.lock().expect("screenshot lock").take();
+        if let Some(result) = finished {
+            if let Err(e) = result {
+                eprintln!("cannot write the screenshot: {e}");
+            }
+            ctx.send_viewport_cmd(egui::ViewportCommand::Close);
+        }
+        if s.frames > 600 {
+            eprintln!("the screenshot did not arrive; closing");
+            ctx.send_viewport_cmd(egui::ViewportCommand::Close);
+        }
+    }
+}
+
+/// Opens the workbench window on `file` (or the default demo).
+pub fn run(file: Option<PathBuf>, screenshot: Option<PathBuf>) -> Result<(), String> {
+    let workbench = match file {
+        Some(p) => {
+            let mut wb = Workbench::demo(lumenrail_bench::demos::DEFAULT);
+            if !wb.open(p.clone()) {
+                return Err(wb.status);
+            }
+            wb
+        }
+        None => Workbench::demo(lumenrail_bench::demos::DEFAULT),
+    };
+    let options = eframe::NativeOptions {
+        viewport: egui::ViewportBuilder::default().with_inner_size([1400.0, 860.0]).with_title("Lumenrail"),
+        persist_window: screenshot.is_none(),
+        ..Default::default()
+    };
+    eframe::run_native(
+        "Lumenrail",
+        options,
+        Box::new(move |cc| Ok(Box::new(WorkbenchApp::new(cc, workbench, screenshot)))),
+    )
+    .map_err(|e| e.to_string())
+}

@@ -1,0 +1,422 @@
+//! The rail view: the bench drawn to scale from the side, with exactly traced rays and the images, where
+//! parts are dragged along the rail.
+
+use crate::scene::wavelength_rgb;
+use crate::{Edit, Workbench};
+use egui::{Color32, Pos2, Rect, Sense, Shape, Stroke, pos2, vec2};
+use lumenrail_bench::compile;
+use lumenrail_bench::model::{ObjectSpec, Part, PartKind, SurfaceSpec};
+use lumenrail_optics::paraxial::FirstOrder;
+
+/// Zoom and pan of the rail view; `None` scale means "fit the bench".
+#[derive(Debug, Clone, Default)]
+pub(crate) struct RailView {
+    /// Pixels per mm along the rail, when zoomed.
+    px_per_mm: Option<f32>,
+    /// Rail position at the view's left edge, when zoomed or panned.
+    left_mm: f32,
+    drag: Option<PartDrag>,
+}
+
+#[derive(Debug, Clone, Copy)]
+struct PartDrag {
+    index: usize,
+    start_at_mm: f64,
+    total_px: f32,
+}
+
+impl RailView {
+    /// Back to "fit bench".
+    pub(crate) fn fit(&mut self) {
+        self.px_per_mm = None;
+    }
+}
+
+/// Maps rail coordinates (mm) to the screen.
+#[derive(Debug, Clone, Copy)]
+struct Frame {
+    rect: Rect,
+    left_mm: f32,
+    px_per_mm: f32,
+    /// Vertical pixels per mm of height (the exaggeration times the rail scale).
+    py_per_mm: f32,
+}
+
+impl Frame {
+    fn at(&self, z_mm: f64, y_mm: f64) -> Pos2 {
+        pos2(
+            self.rect.left() + (z_mm as f32 - self.left_mm) * self.px_per_mm,
+            self.rect.center().y - 12.0 - y_mm as f32 * self.py_per_mm,
+        )
+    }
+}
+
+const MARGIN_PX: f32 = 30.0;
+
+/// Rounds to the snap step (no rounding when snapping is off).
+fn snapped(v: f64, step: f64) -> f64 {
+    if step > 0.0 { (v / step).round() * step } else { v }
+}
+
+/// The span a part occupies on the rail for collisions: its carrier, or else its glass between vertices.
+fn footprint(p: &Part) -> (f64, f64) {
+    p.carrier_span_mm().unwrap_or((p.at_mm, p.end_mm()))
+}
+
+/// Draws the rail view and handles its gestures.
+pub(crate) fn rail_ui(wb: &mut Workbench, ui: &mut egui::Ui) {
+    let (rect, background) = ui.allocate_exact_size(ui.available_size(), Sense::click_and_drag());
+    let rail = wb.bench.rail_length_mm as f32;
+    let fit_scale = (rect.width() - 2.0 * MARGIN_PX).max(50.0) / rail.max(1.0);
+    let px_per_mm = wb.view.px_per_mm.unwrap_or(fit_scale);
+    let left_mm = if wb.view.px_per_mm.is_some() { wb.view.left_mm } else { -MARGIN_PX / fit_scale };
+    let max_semi = wb.bench.parts.iter().map(|p| 0.5 * p.kind.diameter_mm()).fold(1.0, f64::max) as f32;
+    let object_h = match wb.bench.object {
+        ObjectSpec::Point { height_mm, .. } => height_mm.abs() as f32,
+        ObjectSpec::Distant { beam_diameter_mm, .. } => 0.5 * beam_diameter_mm as f32,
+    };
+    let auto = (0.32 * rect.height() / (max_semi.max(object_h) * px_per_mm)).max(1.0);
+    let exaggeration = if wb.exaggeration > 0.0 { wb.exaggeration } else { auto };
+    let f = Frame { rect, left_mm, px_per_mm, py_per_mm: px_per_mm * exaggeration };
+    let painter = ui.painter_at(rect);
+    painter.rect_filled(rect, 0.0, Color32::from_rgb(24, 27, 33));
+
+    // Zoom around the pointer, pan by dragging empty rail.
+    if let Some(pointer) = background.hover_pos() {
+        let scroll = ui.input(|i| i.smooth_scroll_delta.y);
+        let zoom = ui.input(|i| i.zoom_delta()) * (scroll / 400.0).exp();
+        if (zoom - 1.0).abs() > 1e-4 {
+            let z_at = left_mm + (pointer.x - rect.left()) / px_per_mm;
+            let new_scale = (px_per_mm * zoom).clamp(fit_scale * 0.2, fit_scale * 200.0);
+            wb.view.px_per_mm = Some(new_scale);
+            wb.view.left_mm = z_at - (pointer.x - rect.left()) / new_scale;
+        }
+    }
+    if background.dragged() {
+        wb.view.px_per_mm = Some(px_per_mm);
+        wb.view.left_mm = left_mm - background.drag_delta().x / px_per_mm;
+    }
+    if background.clicked() {
+        wb.selected = None;
+    }
+
+    rail_scale_ui(&painter, &f, wb.bench.rail_length_mm);
+    object_ui(&painter, &f, wb);
+    rays_ui(&painter, &f, wb);
+    for img in &wb.scene.images {
+        let base = f.at(img.at_mm, 0.0);
+        let tip = f.at(img.at_mm, img.height_mm);
+        let colour = if img.real {
+            Color32::from_rgb(250, 250, 250)
+        } else {
+            Color32::from_rgba_unmultiplied(200, 200, 255, 110)
+        };
+        if img.real {
+            painter.arrow(base, tip - base, Stroke::new(2.5, colour));
+        } else {
+            painter.extend(Shape::dashed_line(&[base, tip], Stroke::new(2.0, colour), 5.0, 4.0));
+            painter.arrow(tip - (tip - base) * 0.01, (tip - base) * 0.01, Stroke::new(2.0, colour));
+        }
+    }
+    if let Some(i) = wb.selected.filter(|&i| i < wb.bench.parts.len()) {
+        focal_marks_ui(&painter, &f, &wb.bench.parts[i], wb.bench.rail_length_mm);
+    }
+    for i in 0..wb.bench.parts.len() {
+        part_ui(wb, ui, &painter, &f, i);
+    }
+}
+
+fn rail_scale_ui(painter: &egui::Painter, f: &Frame, rail_mm: f64) {
+    let y = f.rect.bottom() - 28.0;
+    let grey = Color32::from_gray(150);
+    painter.line_segment([pos2(f.at(0.0, 0.0).x, y), pos2(f.at(rail_mm, 0.0).x, y)], Stroke::new(3.0, grey));
+    painter.line_segment([f.at(0.0, 0.0), f.at(rail_mm, 0.0)], Stroke::new(1.0, Color32::from_gray(70)));
+    let step = [1.0, 5.0, 10.0, 50.0, 100.0, 500.0, 1000.0]
+        .into_iter()
+        .find(|s| s * f.px_per_mm as f64 >= 60.0)
+        .unwrap_or(1000.0);
+    let mut z = 0.0;
+    while z <= rail_mm + 1e-9 {
+        let x = f.at(z, 0.0).x;
+        if x >= f.rect.left() - 1.0 && x <= f.rect.right() + 1.0 {
+            painter.line_segment([pos2(x, y - 5.0), pos2(x, y + 5.0)], Stroke::new(1.0, grey));
+            painter.text(
+                pos2(x, y + 7.0),
+                egui::Align2::CENTER_TOP,
+                format!("{z:.0}"),
+                egui::FontId::proportional(11.0),
+                grey,
+            );
+        }
+        z += step;
+    }
+    painter.text(
+        pos2(f.rect.right() - 6.0, y - 8.0),
+        egui::Align2::RIGHT_BOTTOM,
+        format!("rail {rail_mm:.0} mm, mm from the datum"),
+        egui::FontId::proportional(11.0),
+        grey,
+    );
+}
+
+fn object_ui(painter: &egui::Painter, f: &Frame, wb: &Workbench) {
+    let colour = Color32::from_rgb(255, 200, 80);
+    match wb.bench.object {
+        ObjectSpec::Point { at_mm, height_mm } => {
+            let base = f.at(at_mm, 0.0);
+            painter.arrow(base, f.at(at_mm, height_mm) - base, Stroke::new(2.5, colour));
+        }
+        ObjectSpec::Distant { .. } => {
+            painter.text(
+                f.at(0.0, 0.0) + vec2(4.0, -18.0),
+                egui::Align2::LEFT_BOTTOM,
+                "from far away",
+                egui::FontId::proportional(11.0),
+                colour,
+            );
+        }
+    }
+}
+
+fn rays_ui(painter: &egui::Painter, f: &Frame, wb: &Workbench) {
+    for ray in &wb.scene.rays {
+        let [r, g, b] = wavelength_rgb(ray.wavelength_nm);
+        let alpha = if ray.off_axis { 110 } else { 220 };
+        let colour = Color32::from_rgba_unmultiplied(r, g, b, alpha);
+        let pts: Vec<Pos2> = ray.points.iter().map(|&(z, y)| f.at(z, y)).collect();
+        painter.add(Shape::line(pts.clone(), Stroke::new(1.2, colour)));
+        if let (Some((z, y)), Some(last)) = (ray.virtual_from, ray.points.iter().rev().nth(1)) {
+            let ghost = Color32::from_rgba_unmultiplied(r, g, b, 90);
+            painter.extend(Shape::dashed_line(&[f.at(last.0, last.1), f.at(z, y)], Stroke::new(1.0, ghost), 4.0, 4.0));
+        }
+        if ray.blocked
+            && let Some(end) = pts.last()
+        {
+            painter.circle_filled(*end, 2.0, colour);
+        }
+    }
+}
+
+/// The selected part's focal points and principal planes.
+fn focal_marks_ui(painter: &egui::Painter, f: &Frame, part: &Part, rail_mm: f64) {
+    if matches!(part.kind, PartKind::Screen { .. } | PartKind::Iris { .. }) {
+        return;
+    }
+    let mut alone = lumenrail_bench::model::Bench {
+        format: 1,
+        title: String::new(),
+        rail_length_mm: rail_mm,
+        wavelengths_nm: vec![587.5618],
+        primary_wavelength: 0,
+        object: ObjectSpec::Distant { field_deg: 0.0, beam_diameter_mm: 1.0 },
+        parts: vec![part.clone()],
+    };
+    alone.parts[0].carrier_mm = None;
+    let Ok(c) = compile::compile(&alone) else { return };
+    let Ok(seq) = c.system.at(587.5618) else { return };
+    let Some(fo) = FirstOrder::of(&seq) else { return };
+    let mark = Color32::from_rgb(120, 220, 160);
+    let h = 0.5 * part.kind.diameter_mm();
+    for (z, label) in [(fo.front_focus_at_mm, "F"), (fo.back_focus_at_mm, "F'")] {
+        if let Some(z) = z {
+            let p = f.at(z, 0.0);
+            painter.circle_stroke(p, 4.0, Stroke::new(1.5, mark));
+            painter.text(p + vec2(0.0, 8.0), egui::Align2::CENTER_TOP, label, egui::FontId::proportional(12.0), mark);
+        }
+    }
+    for (z, label) in [(fo.front_principal_at_mm, "P"), (fo.back_principal_at_mm, "P'")] {
+        if let Some(z) = z {
+            let top = f.at(z, h);
+            painter.extend(Shape::dashed_line(&[top, f.at(z, -h)], Stroke::new(1.0, mark), 3.0, 3.0));
+            painter.text(
+                top - vec2(0.0, 4.0),
+                egui::Align2::CENTER_BOTTOM,
+                label,
+                egui::FontId::proportional(12.0),
+                mark,
+            );
+        }
+    }
+}
+
+/// The outline of a lens of surfaces at `vertices` over the semi-diameter, as a closed polygon per element.
+fn lens_outline(f: &Frame, surfaces: &[(f64, SurfaceSpec)], semi: f64) -> Vec<Vec<Pos2>> {
+    const N: usize = 24;
+    let profile = |z: f64, s: &SurfaceSpec| -> Vec<(f64, f64)> {
+        let shape = compile::shape(s);
+        (0..=N)
+            .map(|k| {
+                let y = semi * (1.0 - 2.0 * k as f64 / N as f64);
+                (z + shape.sag_mm(y.abs()).unwrap_or(0.0), y)
+            })
+            .collect()
+    };
+    surfaces
+        .windows(2)
+        .map(|w| {
+            let mut pts: Vec<Pos2> = profile(w[0].0, &w[0].1).into_iter().map(|(z, y)| f.at(z, y)).collect();
+            pts.extend(profile(w[1].0, &w[1].1).into_iter().rev().map(|(z, y)| f.at(z, y)));
+            pts
+        })
+        .collect()
+}
+
+fn part_ui(wb: &mut Workbench, ui: &mut egui::Ui, painter: &egui::Painter, f: &Frame, i: usize) {
+    let part = wb.bench.parts[i].clone();
+    let semi = 0.5 * part.kind.diameter_mm();
+    let selected = wb.selected == Some(i);
+    let edge = if selected { Color32::from_rgb(255, 230, 120) } else { Color32::from_rgb(170, 200, 230) };
+    let glass = Color32::from_rgba_unmultiplied(120, 170, 220, 60);
+    let top = f.at(part.at_mm, semi);
+    let bottom = f.at(part.end_mm(), -semi);
+    let mut hit = Rect::from_two_pos(top, bottom).expand2(vec2(6.0, 4.0));
+    match &part.kind {
+        PartKind::ThinLens { focal_mm, .. } => {
+            painter.line_segment([top, f.at(part.at_mm, -semi)], Stroke::new(2.0, edge));
+            // Arrowheads out for converging, in for diverging.
+            let d = if *focal_mm > 0.0 { -6.0 } else { 6.0 };
+            for (p, s) in [(top, 1.0), (f.at(part.at_mm, -semi), -1.0)] {
+                painter.line_segment([p, p + vec2(-5.0, -d * s)], Stroke::new(2.0, edge));
+                painter.line_segment([p, p + vec2(5.0, -d * s)], Stroke::new(2.0, edge));
+            }
+        }
+        PartKind::Singlet { front, back, thickness_mm, .. } => {
+            for poly in lens_outline(f, &[(part.at_mm, *front), (part.at_mm + thickness_mm, *back)], semi) {
+                painter.add(Shape::convex_polygon(poly.clone(), glass, Stroke::NONE));
+                painter.add(Shape::closed_line(poly, Stroke::new(1.5, edge)));
+            }
+        }
+        PartKind::Doublet { front, middle, back, thickness1_mm, thickness2_mm, .. } => {
+            let z1 = part.at_mm + thickness1_mm;
+            let surfaces = [(part.at_mm, *front), (z1, *middle), (z1 + thickness2_mm, *back)];
+            for (k, poly) in lens_outline(f, &surfaces, semi).into_iter().enumerate() {
+                let fill = if k == 0 { glass } else { Color32::from_rgba_unmultiplied(170, 140, 220, 70) };
+                painter.add(Shape::convex_polygon(poly.clone(), fill, Stroke::NONE));
+                painter.add(Shape::closed_line(poly, Stroke::new(1.5, edge)));
+            }
+        }
+        PartKind::Mirror { surface, .. } => {
+            let shape = compile::shape(surface);
+            let pts: Vec<Pos2> = (0..=24)
+                .map(|k| {
+                    let y = semi * (1.0 - k as f64 / 12.0);
+                    f.at(part.at_mm + shape.sag_mm(y.abs()).unwrap_or(0.0), y)
+                })
+                .collect();
+            hit = Rect::from_points(&pts).expand2(vec2(6.0, 4.0));
+            painter.add(Shape::line(pts, Stroke::new(4.0, edge)));
+        }
+        PartKind::Iris { diameter_mm } => {
+            let outer = semi.max(0.5 * diameter_mm) * 2.0 + 2.0;
+            let o = 0.5 * diameter_mm;
+            painter.line_segment([f.at(part.at_mm, o), f.at(part.at_mm, outer)], Stroke::new(4.0, edge));
+            painter.line_segment([f.at(part.at_mm, -o), f.at(part.at_mm, -outer)], Stroke::new(4.0, edge));
+            hit = Rect::from_two_pos(f.at(part.at_mm, outer), f.at(part.at_mm, -outer)).expand2(vec2(6.0, 0.0));
+        }
+        PartKind::Screen { .. } => {
+            let r = Rect::from_two_pos(top - vec2(2.0, 0.0), f.at(part.at_mm, -semi) + vec2(2.0, 0.0));
+            painter.rect_filled(r, 1.0, Color32::from_rgba_unmultiplied(230, 230, 230, 120));
+            painter.rect_stroke(r, 1.0, Stroke::new(1.0, edge), egui::StrokeKind::Outside);
+        }
+    }
+    // The carrier: a block on the rail scale.
+    let y_rail = f.rect.bottom() - 28.0;
+    let (c0, c1) = part
+        .carrier_span_mm()
+        .unwrap_or((part.at_mm - 4.0 / f.px_per_mm as f64, part.end_mm() + 4.0 / f.px_per_mm as f64));
+    let carrier = Rect::from_min_max(pos2(f.at(c0, 0.0).x, y_rail - 9.0), pos2(f.at(c1, 0.0).x, y_rail - 2.0));
+    painter.rect_filled(
+        carrier,
+        2.0,
+        if wb.is_locked(i) { Color32::from_rgb(160, 90, 90) } else { Color32::from_gray(110) },
+    );
+    painter.line_segment(
+        [pos2(f.at(part.at_mm, 0.0).x, y_rail - 12.0), pos2(f.at(part.at_mm, 0.0).x, y_rail)],
+        Stroke::new(1.0, edge),
+    );
+    painter.text(top - vec2(0.0, 6.0), egui::Align2::CENTER_BOTTOM, &part.name, egui::FontId::proportional(12.0), edge);
+
+    let hit = hit.union(carrier).intersect(f.rect);
+    let id = ui.scope_id().with(("part", i));
+    let r = ui.interact(hit, id, Sense::click_and_drag());
+    let name = part.name.clone();
+    r.widget_info(|| egui::WidgetInfo::labeled(egui::Role::Button, true, &name));
+    let r = r.on_hover_text(format!(
+        "{} \"{}\" at {:.2} mm{}",
+        part.kind.word(),
+        part.name,
+        part.at_mm,
+        hover_figures(wb, &part)
+    ));
+    if r.clicked() || r.drag_started() {
+        wb.selected = Some(i);
+    }
+    if r.drag_started() {
+        wb.end_gesture();
+        wb.view.drag = (!wb.is_locked(i)).then_some(PartDrag { index: i, start_at_mm: part.at_mm, total_px: 0.0 });
+        if wb.is_locked(i) {
+            wb.status = format!("\"{}\" is locked; unlock it in the part sheet to move it", part.name);
+        }
+    }
+    if r.dragged()
+        && let Some(mut d) = wb.view.drag.filter(|d| d.index == i)
+    {
+        d.total_px += r.drag_delta().x;
+        wb.view.drag = Some(d);
+        let pass = ui.input(|inp| inp.modifiers.alt);
+        let target = snapped(d.start_at_mm + (d.total_px / f.px_per_mm) as f64, wb.snap_mm);
+        let at = clamp_move(wb, i, d.start_at_mm, target, pass);
+        if (at - wb.bench.parts[i].at_mm).abs() > 0.0 {
+            wb.apply(Edit::Move { index: i, at_mm: at }, Some(&format!("drag {i}")));
+        }
+    }
+    if r.drag_stopped() {
+        wb.view.drag = None;
+        wb.end_gesture();
+    }
+}
+
+fn hover_figures(wb: &Workbench, part: &Part) -> String {
+    match &part.kind {
+        PartKind::ThinLens { focal_mm, .. } => format!("\nf = {focal_mm} mm"),
+        PartKind::Screen { .. } => wb
+            .report
+            .screens
+            .iter()
+            .find(|s| s.part == part.name)
+            .and_then(|s| s.rms_spot_um)
+            .map_or_else(String::new, |r| format!("\nRMS spot {r:.2} µm")),
+        _ => String::new(),
+    }
+}
+
+/// Where part `i` may go when dragged from `start` towards `target`: it stops against its neighbours'
+/// footprints (unless `pass`) and stays on the rail.
+fn clamp_move(wb: &Workbench, i: usize, start: f64, target: f64, pass: bool) -> f64 {
+    let p = &wb.bench.parts[i];
+    let (f0, f1) = footprint(p);
+    let (below, above) = (p.at_mm - f0, f1 - p.at_mm);
+    let mut lo = below;
+    let mut hi = wb.bench.rail_length_mm - above.max(p.kind.thickness_mm());
+    if !pass {
+        let centre = start + 0.5 * (above - below);
+        for (k, q) in wb.bench.parts.iter().enumerate() {
+            if k == i {
+                continue;
+            }
+            let (q0, q1) = footprint(q);
+            if q1 - q0 <= 0.0 && f1 - f0 <= 0.0 {
+                continue;
+            }
+            if 0.5 * (q0 + q1) <= centre {
+                lo = lo.max(q1 + below);
+            } else {
+                hi = hi.min(q0 - above);
+            }
+        }
+    }
+    if lo > hi {
+        return start;
+    }
+    target.clamp(lo, hi)
+}

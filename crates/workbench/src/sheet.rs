@@ -1,0 +1,301 @@
+//! The part sheet: edits the selected part, one field at a time. An entry that does not parse, or that
+//! validation refuses, shows its message beside the field and is not applied.
+
+use crate::{Edit, Workbench};
+use lumenrail_bench::model::{MaterialSpec, Part, PartKind, SurfaceSpec};
+use lumenrail_bench::validate::{Severity, validate};
+use lumenrail_optics::library;
+use std::collections::BTreeMap;
+
+/// The text in each field of the sheet, kept while the user types.
+#[derive(Debug, Clone, Default)]
+pub(crate) struct SheetState {
+    /// The part the texts belong to, and the part as it was when they were filled.
+    for_part: Option<(usize, Part)>,
+    texts: BTreeMap<&'static str, String>,
+    /// A field's complaint: (field key, message).
+    error: Option<(&'static str, String)>,
+}
+
+fn number(v: f64) -> String {
+    format!("{v}")
+}
+
+fn surface_text(s: &SurfaceSpec) -> String {
+    match s {
+        SurfaceSpec::Flat => "flat".into(),
+        SurfaceSpec::Radius(r) => number(*r),
+        SurfaceSpec::Conic { radius, .. } => number(*radius),
+    }
+}
+
+/// The editable fields of a part: (key as in the bench file, label with unit).
+fn fields(kind: &PartKind) -> Vec<(&'static str, &'static str)> {
+    let mut f = vec![("at_mm", "position (mm)")];
+    f.extend(match kind {
+        PartKind::ThinLens { .. } => vec![("focal_mm", "focal length (mm)"), ("diameter_mm", "diameter (mm)")],
+        PartKind::Singlet { front, back, .. } => {
+            let mut v = vec![("front", "front radius (mm or flat)")];
+            if matches!(front, SurfaceSpec::Conic { .. }) {
+                v.push(("front_conic", "front conic constant"));
+            }
+            v.push(("back", "back radius (mm or flat)"));
+            if matches!(back, SurfaceSpec::Conic { .. }) {
+                v.push(("back_conic", "back conic constant"));
+            }
+            v.extend([("thickness_mm", "centre thickness (mm)"), ("diameter_mm", "diameter (mm)")]);
+            v
+        }
+        PartKind::Doublet { .. } => vec![
+            ("front", "front radius (mm or flat)"),
+            ("middle", "cemented radius (mm or flat)"),
+            ("back", "back radius (mm or flat)"),
+            ("thickness1_mm", "first thickness (mm)"),
+            ("thickness2_mm", "second thickness (mm)"),
+            ("diameter_mm", "diameter (mm)"),
+        ],
+        PartKind::Mirror { .. } => vec![("surface", "radius (mm or flat)"), ("diameter_mm", "diameter (mm)")],
+        PartKind::Iris { .. } => vec![("diameter_mm", "opening diameter (mm)")],
+        PartKind::Screen { .. } => vec![("diameter_mm", "diameter (mm)")],
+    });
+    f.push(("carrier_mm", "carrier width (mm, blank: none)"));
+    f
+}
+
+fn field_text(p: &Part, key: &str) -> String {
+    let conic = |s: &SurfaceSpec| match s {
+        SurfaceSpec::Conic { conic, .. } => number(*conic),
+        _ => "0".into(),
+    };
+    match (&p.kind, key) {
+        (_, "at_mm") => number(p.at_mm),
+        (_, "carrier_mm") => p.carrier_mm.map_or_else(String::new, number),
+        (_, "diameter_mm") => number(p.kind.diameter_mm()),
+        (PartKind::ThinLens { focal_mm, .. }, "focal_mm") => number(*focal_mm),
+        (PartKind::Singlet { front, .. } | PartKind::Doublet { front, .. }, "front") => surface_text(front),
+        (PartKind::Singlet { back, .. } | PartKind::Doublet { back, .. }, "back") => surface_text(back),
+        (PartKind::Singlet { front, .. }, "front_conic") => conic(front),
+        (PartKind::Singlet { back, .. }, "back_conic") => conic(back),
+        (PartKind::Doublet { middle, .. }, "middle") => surface_text(middle),
+        (PartKind::Singlet { thickness_mm, .. }, "thickness_mm") => number(*thickness_mm),
+        (PartKind::Doublet { thickness1_mm, .. }, "thickness1_mm") => number(*thickness1_mm),
+        (PartKind::Doublet { thickness2_mm, .. }, "thickness2_mm") => number(*thickness2_mm),
+        (PartKind::Mirror { surface, .. }, "surface") => surface_text(surface),
+        _ => String::new(),
+    }
+}
+
+fn parse_number(text: &str, label: &str) -> Result<f64, String> {
+    text.trim().replace(',', ".").parse::<f64>().map_err(|_| format!("{label}: \"{text}\" is not a number"))
+}
+
+fn parse_surface(text: &str, old: &SurfaceSpec, conic_text: Option<&str>, label: &str) -> Result<SurfaceSpec, String> {
+    let t = text.trim();
+    if t.eq_ignore_ascii_case("flat") || t.eq_ignore_ascii_case("inf") {
+        return Ok(SurfaceSpec::Flat);
+    }
+    let radius = parse_number(t, label)?;
+    Ok(match (old, conic_text) {
+        (SurfaceSpec::Conic { .. }, Some(k)) => {
+            SurfaceSpec::Conic { radius, conic: parse_number(k, "conic constant")? }
+        }
+        _ => SurfaceSpec::Radius(radius),
+    })
+}
+
+/// The part the texts describe, or the first complaint: (field key, message).
+fn part_from(old: &Part, texts: &BTreeMap<&'static str, String>) -> Result<Part, (&'static str, String)> {
+    let get = |k: &'static str| texts.get(k).cloned().unwrap_or_default();
+    let num = |k: &'static str, label: &str| parse_number(&get(k), label).map_err(|e| (k, e));
+    let surf = |k: &'static str, old: &SurfaceSpec, conic: Option<&'static str>| {
+        parse_surface(&get(k), old, conic.map(|c| texts.get(c).map_or("0", String::as_str)), k).map_err(|e| (k, e))
+    };
+    let mut p = old.clone();
+    p.at_mm = num("at_mm", "position")?;
+    let carrier = get("carrier_mm");
+    p.carrier_mm = if carrier.trim().is_empty() { None } else { Some(num("carrier_mm", "carrier width")?) };
+    let d = num("diameter_mm", "diameter")?;
+    p.kind = match &old.kind {
+        PartKind::ThinLens { .. } => PartKind::ThinLens { focal_mm: num("focal_mm", "focal length")?, diameter_mm: d },
+        PartKind::Singlet { front, back, material, .. } => PartKind::Singlet {
+            front: surf("front", front, Some("front_conic"))?,
+            back: surf("back", back, Some("back_conic"))?,
+            thickness_mm: num("thickness_mm", "thickness")?,
+            diameter_mm: d,
+            material: material.clone(),
+        },
+        PartKind::Doublet { front, middle, back, material1, material2, .. } => PartKind::Doublet {
+            front: surf("front", front, None)?,
+            middle: surf("middle", middle, None)?,
+            back: surf("back", back, None)?,
+            thickness1_mm: num("thickness1_mm", "first thickness")?,
+            thickness2_mm: num("thickness2_mm", "second thickness")?,
+            material1: material1.clone(),
+            material2: material2.clone(),
+            diameter_mm: d,
+        },
+        PartKind::Mirror { surface, .. } => {
+            PartKind::Mirror { surface: surf("surface", surface, None)?, diameter_mm: d }
+        }
+        PartKind::Iris { .. } => PartKind::Iris { diameter_mm: d },
+        PartKind::Screen { .. } => PartKind::Screen { diameter_mm: d },
+    };
+    Ok(p)
+}
+
+/// The part turned round: surfaces in reverse order with their radii negated.
+pub(crate) fn flipped(p: &Part) -> Part {
+    let neg = |s: &SurfaceSpec| match *s {
+        SurfaceSpec::Flat => SurfaceSpec::Flat,
+        SurfaceSpec::Radius(r) => SurfaceSpec::Radius(-r),
+        SurfaceSpec::Conic { radius, conic } => SurfaceSpec::Conic { radius: -radius, conic },
+    };
+    let mut q = p.clone();
+    q.kind = match &p.kind {
+        PartKind::Singlet { front, back, thickness_mm, diameter_mm, material } => PartKind::Singlet {
+            front: neg(back),
+            back: neg(front),
+            thickness_mm: *thickness_mm,
+            diameter_mm: *diameter_mm,
+            material: material.clone(),
+        },
+        PartKind::Doublet { front, middle, back, thickness1_mm, thickness2_mm, material1, material2, diameter_mm } => {
+            PartKind::Doublet {
+                front: neg(back),
+                middle: neg(middle),
+                back: neg(front),
+                thickness1_mm: *thickness2_mm,
+                thickness2_mm: *thickness1_mm,
+                material1: material2.clone(),
+                material2: material1.clone(),
+                diameter_mm: *diameter_mm,
+            }
+        }
+        other => other.clone(),
+    };
+    q
+}
+
+/// Validates `candidate` as part `index` of the bench; returns its first error as (field, message).
+fn refusal(wb: &Workbench, index: usize, candidate: &Part) -> Option<(&'static str, String)> {
+    let mut bench = wb.bench.clone();
+    bench.parts[index] = candidate.clone();
+    validate(&bench)
+        .into_iter()
+        .find(|f| f.severity == Severity::Error && f.part == Some(index))
+        .map(|f| (f.field.unwrap_or("at_mm"), f.message))
+}
+
+/// Draws the part sheet for the selected part.
+pub(crate) fn sheet_ui(wb: &mut Workbench, ui: &mut egui::Ui) {
+    ui.heading("Part sheet");
+    let Some(index) = wb.selected.filter(|&i| i < wb.bench.parts.len()) else {
+        ui.label("Click a part on the rail to edit it.");
+        return;
+    };
+    let part = wb.bench.parts[index].clone();
+    // Refill the texts when another part is selected or the part changed elsewhere (a drag, an undo).
+    if wb.sheet.for_part.as_ref() != Some(&(index, part.clone())) {
+        let keep_error = wb.sheet.for_part.as_ref().is_some_and(|(i, _)| *i == index) && wb.sheet.error.is_some();
+        if !keep_error {
+            wb.sheet.texts = fields(&part.kind).into_iter().map(|(k, _)| (k, field_text(&part, k))).collect();
+            wb.sheet.error = None;
+        }
+        wb.sheet.for_part = Some((index, part.clone()));
+    }
+    ui.label(format!("{} \"{}\"", part.kind.word(), part.name));
+    let mut changed: Option<&'static str> = None;
+    egui::Grid::new("sheet-grid").num_columns(2).show(ui, |ui| {
+        for (key, label) in fields(&part.kind) {
+            let name = ui.label(label);
+            let text = wb.sheet.texts.entry(key).or_default();
+            let r = ui
+                .add(egui::TextEdit::singleline(text).desired_width(110.0).id_salt(("sheet", key)))
+                .labelled_by(name.id);
+            if r.changed() {
+                changed = Some(key);
+            }
+            ui.end_row();
+            if let Some((k, msg)) = &wb.sheet.error
+                && *k == key
+            {
+                ui.label("");
+                ui.colored_label(egui::Color32::from_rgb(210, 70, 40), msg);
+                ui.end_row();
+            }
+        }
+    });
+    if let Some(key) = changed {
+        match part_from(&part, &wb.sheet.texts) {
+            Err(e) => wb.sheet.error = Some(e),
+            Ok(candidate) => match refusal(wb, index, &candidate) {
+                Some(e) => wb.sheet.error = Some(e),
+                None => {
+                    wb.sheet.error = None;
+                    wb.sheet.for_part = Some((index, candidate.clone()));
+                    wb.apply(Edit::Replace { index, part: candidate }, Some(&format!("sheet {index} {key}")));
+                }
+            },
+        }
+    }
+    material_ui(wb, ui, index);
+    ui.horizontal(|ui| {
+        if matches!(part.kind, PartKind::Singlet { .. } | PartKind::Doublet { .. }) && ui.button("Flip lens").clicked()
+        {
+            wb.apply(Edit::Replace { index, part: flipped(&part) }, None);
+        }
+        let locked = wb.is_locked(index);
+        if ui.selectable_label(locked, if locked { "Locked" } else { "Lock" }).clicked() {
+            if locked {
+                wb.locked.retain(|n| n != &part.name);
+            } else {
+                wb.locked.push(part.name.clone());
+            }
+        }
+    });
+}
+
+fn material_ui(wb: &mut Workbench, ui: &mut egui::Ui, index: usize) {
+    let part = wb.bench.parts[index].clone();
+    let slots: Vec<(&str, MaterialSpec)> = match &part.kind {
+        PartKind::Singlet { material, .. } => vec![("glass", material.clone())],
+        PartKind::Doublet { material1, material2, .. } => {
+            vec![("first glass", material1.clone()), ("second glass", material2.clone())]
+        }
+        _ => return,
+    };
+    for (slot, (label, spec)) in slots.into_iter().enumerate() {
+        let current = match &spec {
+            MaterialSpec::Named(n) => n.clone(),
+            MaterialSpec::Index(n) => format!("index {n}"),
+            MaterialSpec::Abbe { nd, vd } => format!("nd {nd}, Vd {vd}"),
+            MaterialSpec::Sellmeier { .. } => "Sellmeier formula".into(),
+        };
+        let mut chosen = None;
+        egui::ComboBox::from_label(label).selected_text(current).show_ui(ui, |ui| {
+            for e in library::entries() {
+                if ui
+                    .selectable_label(matches!(&spec, MaterialSpec::Named(n) if n == e.name), e.name)
+                    .on_hover_text(e.description)
+                    .clicked()
+                {
+                    chosen = Some(MaterialSpec::Named(e.name.into()));
+                }
+            }
+        });
+        if let Some(m) = chosen {
+            let mut p = part.clone();
+            match (&mut p.kind, slot) {
+                (PartKind::Singlet { material, .. }, _) | (PartKind::Doublet { material1: material, .. }, 0) => {
+                    *material = m
+                }
+                (PartKind::Doublet { material2, .. }, _) => *material2 = m,
+                _ => {}
+            }
+            match refusal(wb, index, &p) {
+                Some((_, msg)) => wb.status = msg,
+                None => wb.apply(Edit::Replace { index, part: p }, None),
+            }
+        }
+    }
+}

@@ -1,0 +1,155 @@
+//! The workbench driven as a person uses it, through the real widgets (egui_kittest, no display): drag a
+//! lens, nudge with keys, undo, type into the part sheet, move a screen to best focus.
+
+#![allow(clippy::float_cmp)] // Snapped positions here are whole millimetres, exact in f64, so equality is the check.
+
+use egui::Key;
+use egui_kittest::Harness;
+use egui_kittest::kittest::Queryable as _;
+use lumenrail_bench::report::Report;
+use lumenrail_workbench::Workbench;
+
+fn harness(demo: &str) -> Harness<'static, Workbench> {
+    let mut h = Harness::builder()
+        .with_size(egui::vec2(1400.0, 860.0))
+        .build_ui_state(|ui, wb: &mut Workbench| wb.ui(ui), Workbench::demo(demo));
+    h.run();
+    h
+}
+
+/// The readout's final-image line, as a person reads it.
+fn final_image_text(h: &Harness<'_, Workbench>) -> String {
+    h.get_by_label_contains("Final image").value().unwrap_or_default()
+}
+
+fn drag_by(h: &mut Harness<'_, Workbench>, label: &str, dx: f32) {
+    let start = h.get_by_label(label).rect().center();
+    h.hover_at(start);
+    h.run();
+    h.drag_at(start);
+    h.run();
+    for k in 1..=5 {
+        h.hover_at(start + egui::vec2(dx * k as f32 / 5.0, 0.0));
+        h.run();
+    }
+    h.drop_at(start + egui::vec2(dx, 0.0));
+    h.run();
+}
+
+#[test]
+fn dragging_a_lens_updates_the_image_to_the_cores_figure() {
+    let mut h = harness("one-lens-screen");
+    assert!(final_image_text(&h).contains("at 450.000 mm"), "{}", final_image_text(&h));
+    let before = h.state().bench.parts[0].at_mm;
+    // Leftwards, away from the screen's carrier.
+    drag_by(&mut h, "Projection lens", -60.0);
+    let wb = h.state();
+    let after = wb.bench.parts[0].at_mm;
+    assert!(after < before - 10.0, "the lens moved: {before} → {after}");
+    assert_eq!(after, after.round(), "1 mm snap");
+    // The readout shows what the core computes for the new layout (Gauss: s' = 1/(1/f + 1/s)).
+    let s1 = 1.0 / (1.0 / 100.0 - 1.0 / after);
+    let expected = Report::of(&wb.bench).images.last().unwrap().at_mm.unwrap();
+    assert!((expected - (after + s1)).abs() < 1e-9);
+    assert!(final_image_text(&h).contains(&format!("at {expected:.3} mm")), "{}", final_image_text(&h));
+    // One drag is one undo step.
+    h.state_mut().undo();
+    h.run();
+    assert_eq!(h.state().bench.parts[0].at_mm, before);
+    assert!(final_image_text(&h).contains("at 450.000 mm"));
+}
+
+#[test]
+fn a_part_stops_against_its_neighbours_carrier() {
+    let mut h = harness("one-lens-screen");
+    // The lens (carrier 25 mm at 300) dragged far right stops against the screen's carrier (25 mm at 450).
+    drag_by(&mut h, "Projection lens", 600.0);
+    let at = h.state().bench.parts[0].at_mm;
+    assert!((at - (450.0 - 25.0)).abs() < 1e-9, "{at}");
+}
+
+#[test]
+fn arrow_keys_nudge_the_selected_part_and_undo_restores_the_figures() {
+    let mut h = harness("one-lens-screen");
+    h.get_by_label("Projection lens").click();
+    h.run();
+    assert_eq!(h.state().selected, Some(0));
+    h.key_press(Key::ArrowLeft);
+    h.run();
+    assert_eq!(h.state().bench.parts[0].at_mm, 299.0);
+    h.key_press_modifiers(egui::Modifiers::SHIFT, Key::ArrowLeft);
+    h.run();
+    assert_eq!(h.state().bench.parts[0].at_mm, 289.0);
+    let moved = final_image_text(&h);
+    assert!(!moved.contains("450.000"));
+    h.key_press_modifiers(egui::Modifiers::COMMAND, Key::Z);
+    h.run();
+    assert_eq!(h.state().bench.parts[0].at_mm, 300.0, "nudges merge into one undo step");
+    assert!(final_image_text(&h).contains("at 450.000 mm"));
+    h.key_press_modifiers(egui::Modifiers::COMMAND | egui::Modifiers::SHIFT, Key::Z);
+    h.run();
+    assert_eq!(h.state().bench.parts[0].at_mm, 289.0);
+}
+
+#[test]
+fn typing_a_focal_length_in_the_part_sheet_changes_the_figures() {
+    let mut h = harness("one-lens-screen");
+    h.get_by_label("Projection lens").click();
+    h.run();
+    h.get_by_label("focal length (mm)").focus();
+    h.run();
+    h.key_press_modifiers(egui::Modifiers::COMMAND, Key::A);
+    h.run();
+    h.get_by_label("focal length (mm)").type_text("120");
+    h.run();
+    let wb = h.state();
+    match &wb.bench.parts[0].kind {
+        lumenrail_bench::model::PartKind::ThinLens { focal_mm, .. } => assert_eq!(*focal_mm, 120.0),
+        other => panic!("{other:?}"),
+    }
+    // s = −300, f = 120: s' = 200, image at 500 mm.
+    assert!(final_image_text(&h).contains("at 500.000 mm"), "{}", final_image_text(&h));
+}
+
+#[test]
+fn an_invalid_entry_shows_its_message_and_changes_nothing() {
+    let mut h = harness("one-lens-screen");
+    h.get_by_label("Projection lens").click();
+    h.run();
+    h.get_by_label("diameter (mm)").focus();
+    h.run();
+    h.key_press_modifiers(egui::Modifiers::COMMAND, Key::A);
+    h.run();
+    h.get_by_label("diameter (mm)").type_text("-3");
+    h.run();
+    assert_eq!(h.state().bench.parts[0].kind.diameter_mm(), 40.0);
+    let msg = h.get_by_label_contains("must be a positive number").value().unwrap_or_default();
+    assert!(msg.contains("Projection lens"), "{msg}");
+    assert!(final_image_text(&h).contains("at 450.000 mm"));
+}
+
+#[test]
+fn move_screen_to_best_focus_makes_its_spot_the_best_focus_spot() {
+    let mut h = harness("plano-convex-flat-first");
+    let screen = h.state().report.screens[0].clone();
+    assert!(screen.move_to_best_focus_mm.unwrap().abs() > 1.0);
+    h.get_by_label("Move Screen to best focus").click();
+    h.run();
+    let now = &h.state().report.screens[0];
+    assert!((now.at_mm - screen.best_focus_at_mm.unwrap()).abs() < 1e-12);
+    assert!(
+        (now.rms_spot_um.unwrap() - screen.best_rms_spot_um.unwrap()).abs() < 1e-6 * screen.best_rms_spot_um.unwrap()
+    );
+    assert!(now.move_to_best_focus_mm.unwrap().abs() < 1e-9);
+}
+
+#[test]
+fn every_part_and_figure_reports_itself_by_label() {
+    let h = harness("unit-relay");
+    for name in ["Relay A", "Field screen", "Relay B", "Camera plane"] {
+        let _ = h.get_by_label(name);
+    }
+    let _ = h.get_by_label_contains("Intermediate image 1 after Relay A");
+    let _ = h.get_by_label_contains("Aperture stop: Relay A");
+    let _ = h.get_by_label_contains("vignetting");
+}
