@@ -5,6 +5,7 @@
 use criterion::{Criterion, criterion_group, criterion_main};
 use lumenrail_bench::demos::DEMOS;
 use lumenrail_bench::report::Report;
+use lumenrail_workbench::Workbench;
 use lumenrail_workbench::scene::Scene;
 use std::hint::black_box;
 
@@ -25,5 +26,27 @@ fn drag_recompute(c: &mut Criterion) {
     g.finish();
 }
 
-criterion_group!(benches, drag_recompute);
+/// A whole frame of the workbench (layout, rail drawing, readout, tessellation-free CPU work of egui) while
+/// the lens is moved each frame, headless.
+fn whole_frame(c: &mut Criterion) {
+    let mut g = c.benchmark_group("whole_frame");
+    for name in ["one-lens-screen", "colour-achromat", "unit-relay"] {
+        let mut h = egui_kittest::Harness::builder()
+            .with_size(egui::vec2(1400.0, 860.0))
+            .build_ui_state(|ui, wb: &mut Workbench| wb.ui(ui), Workbench::demo(name));
+        h.run();
+        let mut k = 0u32;
+        g.bench_function(name, |b| {
+            b.iter(|| {
+                k = k.wrapping_add(1);
+                let at = h.state().bench.parts[0].at_mm + if k.is_multiple_of(2) { 0.5 } else { -0.5 };
+                h.state_mut().apply(lumenrail_workbench::Edit::Move { index: 0, at_mm: at }, Some("bench"));
+                h.step();
+            })
+        });
+    }
+    g.finish();
+}
+
+criterion_group!(benches, drag_recompute, whole_frame);
 criterion_main!(benches);

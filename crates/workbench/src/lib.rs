@@ -437,8 +437,8 @@ impl Workbench {
         });
         egui::Window::new("Keyboard shortcuts").open(&mut self.show_keys).show(ctx, |ui| {
             for (k, what) in [
-                ("← / →", "nudge the selected part one snap step (1 mm with snap off)"),
-                ("Shift + ← / →", "nudge ten steps"),
+                ("Left / Right arrow", "nudge the selected part one snap step (1 mm with snap off)"),
+                ("Shift + Left / Right", "nudge ten steps"),
                 ("Alt while dragging", "let a part pass its neighbour's carrier"),
                 ("Ctrl+Z", "undo"),
                 ("Ctrl+Shift+Z or Ctrl+Y", "redo"),

@@ -31,7 +31,7 @@ fn surface_text(s: &SurfaceSpec) -> String {
 
 /// The editable fields of a part: (key as in the bench file, label with unit).
 fn fields(kind: &PartKind) -> Vec<(&'static str, &'static str)> {
-    let mut f = vec![("at_mm", "position (mm)")];
+    let mut f = vec![("name", "name"), ("at_mm", "position (mm)")];
     f.extend(match kind {
         PartKind::ThinLens { .. } => vec![("focal_mm", "focal length (mm)"), ("diameter_mm", "diameter (mm)")],
         PartKind::Singlet { front, back, .. } => {
@@ -58,8 +58,39 @@ fn fields(kind: &PartKind) -> Vec<(&'static str, &'static str)> {
         PartKind::Iris { .. } => vec![("diameter_mm", "opening diameter (mm)")],
         PartKind::Screen { .. } => vec![("diameter_mm", "diameter (mm)")],
     });
+    let glass_fields = |m: &MaterialSpec, index: &'static str, nd: &'static str, vd: &'static str| match m {
+        MaterialSpec::Index(_) => vec![(index, "refractive index")],
+        MaterialSpec::Abbe { .. } => vec![(nd, "nd"), (vd, "Vd")],
+        _ => vec![],
+    };
+    match kind {
+        PartKind::Singlet { material, .. } => f.extend(glass_fields(material, "n1", "nd1", "vd1")),
+        PartKind::Doublet { material1, material2, .. } => {
+            f.extend(glass_fields(material1, "n1", "nd1", "vd1"));
+            f.extend(glass_fields(material2, "n2", "nd2", "vd2"));
+        }
+        _ => {}
+    }
     f.push(("carrier_mm", "carrier width (mm, blank: none)"));
     f
+}
+
+/// The glass of slot 1 or 2 of a lens.
+fn glass(kind: &PartKind, slot: u8) -> Option<&MaterialSpec> {
+    match (kind, slot) {
+        (PartKind::Singlet { material, .. }, 1) | (PartKind::Doublet { material1: material, .. }, 1) => Some(material),
+        (PartKind::Doublet { material2, .. }, 2) => Some(material2),
+        _ => None,
+    }
+}
+
+fn glass_text(m: Option<&MaterialSpec>, what: char) -> String {
+    match (m, what) {
+        (Some(MaterialSpec::Index(n)), 'n') => number(*n),
+        (Some(MaterialSpec::Abbe { nd, .. }), 'd') => number(*nd),
+        (Some(MaterialSpec::Abbe { vd, .. }), 'v') => number(*vd),
+        _ => String::new(),
+    }
 }
 
 fn field_text(p: &Part, key: &str) -> String {
@@ -68,6 +99,7 @@ fn field_text(p: &Part, key: &str) -> String {
         _ => "0".into(),
     };
     match (&p.kind, key) {
+        (_, "name") => p.name.clone(),
         (_, "at_mm") => number(p.at_mm),
         (_, "carrier_mm") => p.carrier_mm.map_or_else(String::new, number),
         (_, "diameter_mm") => number(p.kind.diameter_mm()),
@@ -81,6 +113,12 @@ fn field_text(p: &Part, key: &str) -> String {
         (PartKind::Doublet { thickness1_mm, .. }, "thickness1_mm") => number(*thickness1_mm),
         (PartKind::Doublet { thickness2_mm, .. }, "thickness2_mm") => number(*thickness2_mm),
         (PartKind::Mirror { surface, .. }, "surface") => surface_text(surface),
+        (k, "n1") => glass_text(glass(k, 1), 'n'),
+        (k, "nd1") => glass_text(glass(k, 1), 'd'),
+        (k, "vd1") => glass_text(glass(k, 1), 'v'),
+        (k, "n2") => glass_text(glass(k, 2), 'n'),
+        (k, "nd2") => glass_text(glass(k, 2), 'd'),
+        (k, "vd2") => glass_text(glass(k, 2), 'v'),
         _ => String::new(),
     }
 }
@@ -110,19 +148,28 @@ fn part_from(old: &Part, texts: &BTreeMap<&'static str, String>) -> Result<Part,
     let surf = |k: &'static str, old: &SurfaceSpec, conic: Option<&'static str>| {
         parse_surface(&get(k), old, conic.map(|c| texts.get(c).map_or("0", String::as_str)), k).map_err(|e| (k, e))
     };
+    let material = |m: &MaterialSpec, slot: u8| -> Result<MaterialSpec, (&'static str, String)> {
+        let (kn, kd, kv) = if slot == 1 { ("n1", "nd1", "vd1") } else { ("n2", "nd2", "vd2") };
+        Ok(match m {
+            MaterialSpec::Index(_) => MaterialSpec::Index(num(kn, "refractive index")?),
+            MaterialSpec::Abbe { .. } => MaterialSpec::Abbe { nd: num(kd, "nd")?, vd: num(kv, "Vd")? },
+            other => other.clone(),
+        })
+    };
     let mut p = old.clone();
+    p.name = get("name").trim().to_string();
     p.at_mm = num("at_mm", "position")?;
     let carrier = get("carrier_mm");
     p.carrier_mm = if carrier.trim().is_empty() { None } else { Some(num("carrier_mm", "carrier width")?) };
     let d = num("diameter_mm", "diameter")?;
     p.kind = match &old.kind {
         PartKind::ThinLens { .. } => PartKind::ThinLens { focal_mm: num("focal_mm", "focal length")?, diameter_mm: d },
-        PartKind::Singlet { front, back, material, .. } => PartKind::Singlet {
+        PartKind::Singlet { front, back, .. } => PartKind::Singlet {
             front: surf("front", front, Some("front_conic"))?,
             back: surf("back", back, Some("back_conic"))?,
             thickness_mm: num("thickness_mm", "thickness")?,
             diameter_mm: d,
-            material: material.clone(),
+            material: material(glass(&old.kind, 1).expect("a singlet has a glass"), 1)?,
         },
         PartKind::Doublet { front, middle, back, material1, material2, .. } => PartKind::Doublet {
             front: surf("front", front, None)?,
@@ -176,14 +223,21 @@ pub(crate) fn flipped(p: &Part) -> Part {
     q
 }
 
-/// Validates `candidate` as part `index` of the bench; returns its first error as (field, message).
+/// Validates the bench with `candidate` as part `index`; returns the first error the change brings, as
+/// (field, message), preferring those that name this part (a duplicate name is reported on the later part).
 fn refusal(wb: &Workbench, index: usize, candidate: &Part) -> Option<(&'static str, String)> {
+    let before: Vec<String> =
+        validate(&wb.bench).into_iter().filter(|f| f.severity == Severity::Error).map(|f| f.message).collect();
     let mut bench = wb.bench.clone();
     bench.parts[index] = candidate.clone();
-    validate(&bench)
+    let mut new: Vec<_> = validate(&bench)
         .into_iter()
-        .find(|f| f.severity == Severity::Error && f.part == Some(index))
-        .map(|f| (f.field.unwrap_or("at_mm"), f.message))
+        .filter(|f| f.severity == Severity::Error && !before.contains(&f.message))
+        .collect();
+    new.sort_by_key(|f| f.part != Some(index));
+    // An error reported on another part (the later of two with one name, or of two overlapping lenses) is
+    // shown beside the same field of this part.
+    new.into_iter().next().map(|f| (f.field.unwrap_or("at_mm"), f.message))
 }
 
 /// Draws the part sheet for the selected part.
@@ -233,6 +287,12 @@ pub(crate) fn sheet_ui(wb: &mut Workbench, ui: &mut egui::Ui) {
                 None => {
                     wb.sheet.error = None;
                     wb.sheet.for_part = Some((index, candidate.clone()));
+                    // A locked part stays locked under its new name.
+                    for l in &mut wb.locked {
+                        if *l == part.name {
+                            l.clone_from(&candidate.name);
+                        }
+                    }
                     wb.apply(Edit::Replace { index, part: candidate }, Some(&format!("sheet {index} {key}")));
                 }
             },
@@ -273,6 +333,13 @@ fn material_ui(wb: &mut Workbench, ui: &mut egui::Ui, index: usize) {
         };
         let mut chosen = None;
         egui::ComboBox::from_label(label).selected_text(current).show_ui(ui, |ui| {
+            if ui.selectable_label(matches!(spec, MaterialSpec::Index(_)), "by refractive index").clicked() {
+                chosen = Some(MaterialSpec::Index(1.5));
+            }
+            if ui.selectable_label(matches!(spec, MaterialSpec::Abbe { .. }), "by nd and Vd").clicked() {
+                chosen = Some(MaterialSpec::Abbe { nd: 1.5168, vd: 64.17 });
+            }
+            ui.separator();
             for e in library::entries() {
                 if ui
                     .selectable_label(matches!(&spec, MaterialSpec::Named(n) if n == e.name), e.name)

@@ -153,3 +153,60 @@ fn every_part_and_figure_reports_itself_by_label() {
     let _ = h.get_by_label_contains("Aperture stop: Relay A");
     let _ = h.get_by_label_contains("vignetting");
 }
+
+fn replace_text(h: &mut Harness<'_, Workbench>, label: &str, text: &str) {
+    h.get_by_label(label).focus();
+    h.run();
+    h.key_press_modifiers(egui::Modifiers::COMMAND, Key::A);
+    h.run();
+    h.get_by_label(label).type_text(text);
+    h.run();
+}
+
+#[test]
+fn renaming_a_part_and_refusing_a_duplicate_name() {
+    let mut h = harness("one-lens-screen");
+    h.get_by_label("Projection lens").click();
+    h.run();
+    replace_text(&mut h, "name", "Condenser");
+    assert_eq!(h.state().bench.parts[0].name, "Condenser");
+    let _ = h.get_by_label("Condenser");
+    replace_text(&mut h, "name", "Screen");
+    assert_eq!(h.state().bench.parts[0].name, "Condenser", "a duplicate name is not applied");
+    let _ = h.get_by_label_contains("names must be unique");
+}
+
+#[test]
+fn a_glass_given_by_nd_and_vd_changes_the_focal_length_by_the_lensmaker() {
+    let mut h = harness("plano-convex-curved-first");
+    h.get_by_label("PCX 100").click();
+    h.run();
+    h.get_by_label("glass").click();
+    h.run();
+    h.get_by_label("by nd and Vd").click();
+    h.run();
+    assert!(matches!(
+        &h.state().bench.parts[0].kind,
+        lumenrail_bench::model::PartKind::Singlet { material: lumenrail_bench::model::MaterialSpec::Abbe { .. }, .. }
+    ));
+    replace_text(&mut h, "nd", "1.6");
+    // Plano-convex: f = R/(n − 1) = 51.7/0.6 (lensmaker's equation).
+    let efl = h.state().report.first_order.efl_mm.unwrap();
+    assert!((efl - 51.7 / 0.6).abs() < 1e-9, "{efl}");
+}
+
+#[test]
+fn the_help_menu_shows_the_safety_cautions_and_the_shortcuts() {
+    let mut h = harness("one-lens-screen");
+    h.get_by_label("Help").click();
+    h.run();
+    h.get_by_label("Safety").click();
+    h.run();
+    let _ = h.get_by_label_contains("laser safety officer");
+    let mut h = harness("one-lens-screen");
+    h.get_by_label("Help").click();
+    h.run();
+    h.get_by_label("Keyboard shortcuts").click();
+    h.run();
+    let _ = h.get_by_label_contains("nudge the selected part");
+}
