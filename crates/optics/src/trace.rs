@@ -305,10 +305,12 @@ pub fn through_step(step: &Step, index: usize, ray: &Ray, check_aperture: bool) 
     if h.fate != 0.0 {
         return Err(fate_error(h.fate, index, h.y));
     }
-    let mut opl = ray.opl_mm + s.n_before * h.t;
+    // Summed in the batch loop's order, so that the two agree bit for bit.
+    let mut path = s.n_before * h.t;
     if let Kind::Ideal(f) = s.kind {
-        opl += ideal_lens_path(s.n_before, f, h.y);
+        path += ideal_lens_path(s.n_before, f, h.y);
     }
+    let opl = ray.opl_mm + path;
     let out = Ray { y_mm: h.y, z_mm: h.z, m: h.m, l: h.l, opl_mm: opl };
     if !out.is_finite() {
         return Err(RayError::NonFinite { surface: Some(index) });
