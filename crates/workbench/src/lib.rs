@@ -357,6 +357,15 @@ impl Workbench {
                     *self = Workbench::new(bench, None);
                 }
                 if ui.button("Open…").clicked() {
+                    ui.close();
+                    match rfd::FileDialog::new().add_filter("bench", &["ron"]).set_title("Open bench").pick_file() {
+                        Some(p) => {
+                            self.open(p);
+                        }
+                        None => self.status = "no file chosen (if no dialog appeared, use File → Open by path…)".into(),
+                    }
+                }
+                if ui.button("Open by path…").clicked() {
                     self.path_prompt = Some((PathPrompt::Open, String::new()));
                 }
                 ui.menu_button("Demo benches", |ui| {
