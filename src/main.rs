@@ -10,15 +10,9 @@ use std::io::Write;
 use std::path::PathBuf;
 use std::process::ExitCode;
 
-const SAFETY: &str = "\
-Safety: Lumenrail plans benches; it does not certify them. Laser beams and their stray reflections can
-injure eyes: follow the laser's hazard class (IEC 60825-1 / ANSI Z136) and your laser safety officer. Never
-look at the sun through any optic; lenses that concentrate sunlight or lamp light burn and start fires; lamps
-get hot. For anything about eyes or eyewear, ask an eye-care professional.";
-
 /// Lay out optical benches and ray-trace them exactly.
 #[derive(Parser)]
-#[command(name = "lumenrail", version, about, after_help = SAFETY, args_conflicts_with_subcommands = true)]
+#[command(name = "lumenrail", version, about, after_help = lumenrail_workbench::SAFETY, args_conflicts_with_subcommands = true)]
 struct Cli {
     /// A bench file to open in the workbench (default: a built-in demo bench).
     file: Option<PathBuf>,
