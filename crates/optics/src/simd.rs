@@ -44,6 +44,8 @@ pub(crate) trait Lane:
     fn only(m: Self::Mask, v: Self) -> Self;
     /// The sum of two lane vectors of which at least one is zero in every lane (a bitwise OR).
     fn either(self, o: Self) -> Self;
+    /// Whether every lane of `m` is true.
+    fn all(m: Self::Mask) -> bool;
 }
 
 impl Lane for f64 {
@@ -115,6 +117,10 @@ impl Lane for f64 {
     #[inline(always)]
     fn either(self, o: f64) -> f64 {
         f64::from_bits(self.to_bits() | o.to_bits())
+    }
+    #[inline(always)]
+    fn all(m: bool) -> bool {
+        m
     }
 }
 
@@ -261,6 +267,11 @@ mod x86 {
             unsafe { F64x2(_mm_or_pd(self.0, o.0)) }
         }
         #[inline(always)]
+        fn all(m: M64x2) -> bool {
+            // SAFETY: SSE2 is part of every x86-64 processor.
+            unsafe { _mm_movemask_pd(m.0) == 0b11 }
+        }
+        #[inline(always)]
         fn select(m: M64x2, a: F64x2, b: F64x2) -> F64x2 {
             // SAFETY: SSE2 is part of every x86-64 processor.
             unsafe { F64x2(_mm_or_pd(_mm_and_pd(m.0, a.0), _mm_andnot_pd(m.0, b.0))) }
@@ -373,6 +384,11 @@ mod x86 {
         fn either(self, o: F64x4) -> F64x4 {
             // SAFETY: see `binary!`.
             unsafe { F64x4(_mm256_or_pd(self.0, o.0)) }
+        }
+        #[inline(always)]
+        fn all(m: M64x4) -> bool {
+            // SAFETY: see `binary!`.
+            unsafe { _mm256_movemask_pd(m.0) == 0b1111 }
         }
         #[inline(always)]
         fn select(m: M64x4, a: F64x4, b: F64x4) -> F64x4 {

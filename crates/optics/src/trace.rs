@@ -112,17 +112,37 @@ pub struct RayPath {
 
 /// The result of one ray (or one lane vector of rays) meeting one surface, computed without branching so
 /// that batches vectorise.
-#[derive(Debug, Clone, Copy)]
-pub(crate) struct Hit<V> {
+#[derive(Clone, Copy)]
+pub(crate) struct Hit<V: Lane> {
     pub y: V,
     pub z: V,
     pub m: V,
     pub l: V,
     /// Geometrical path length from the old point to the intercept (signed).
     pub t: V,
+    /// Whether the ray meets the surface at all.
+    pub met: <V as Lane>::Mask,
+    /// Whether it meets it inside the clear aperture.
+    pub inside: <V as Lane>::Mask,
+    /// Whether it is totally reflected.
+    pub tir: <V as Lane>::Mask,
+}
+
+impl<V: Lane> Hit<V> {
+    /// Whether the ray gets through the surface.
+    #[inline(always)]
+    pub fn through(&self) -> V::Mask {
+        self.met & self.inside & !self.tir
+    }
+
     /// 0 through, [`FATE_MISSED`], [`FATE_BLOCKED`] or [`FATE_TIR`] (as f64, so that batches stay in one
-    /// lane width).
-    pub fate: V,
+    /// lane width): missed before blocked before total internal reflection.
+    #[inline(always)]
+    pub fn fate(&self) -> V {
+        V::only(!self.met, V::splat(FATE_MISSED))
+            .either(V::only(self.met & !self.inside, V::splat(FATE_BLOCKED)))
+            .either(V::only(self.met & self.inside & self.tir, V::splat(FATE_TIR)))
+    }
 }
 
 pub(crate) const FATE_MISSED: f64 = 1.0;
@@ -217,9 +237,15 @@ pub(crate) fn hit<V: Lane, const SHAPE: u8, const ACTION: u8>(k: &StepLanes<V>, 
             t2 = V::select(flat_a, V::splat(f64::INFINITY), t2);
         }
         let near_ok = (one - k.ck * t1.mul_add(l, s0)).gt(zero);
-        let far_ok = (one - k.ck * t2.mul_add(l, s0)).gt(zero);
-        let t = V::select(near_ok, t1, t2);
-        (t, disc.ge(zero) & (near_ok | far_ok) & t.abs().lt(V::splat(f64::INFINITY)))
+        let finite = |t: V| t.abs().lt(V::splat(f64::INFINITY));
+        if V::all(near_ok) {
+            // The usual case: every lane meets the sheet that holds the vertex at the first root.
+            (t1, disc.ge(zero) & finite(t1))
+        } else {
+            let far_ok = (one - k.ck * t2.mul_add(l, s0)).gt(zero);
+            let t = V::select(near_ok, t1, t2);
+            (t, disc.ge(zero) & (near_ok | far_ok) & finite(t))
+        }
     };
     let y1 = t.mul_add(m, y);
     let z1 = t.mul_add(l, z);
@@ -253,11 +279,7 @@ pub(crate) fn hit<V: Lane, const SHAPE: u8, const ACTION: u8>(k: &StepLanes<V>, 
             (tan1 * inv, inv.copysign(l), zero.lt(zero))
         }
     };
-    // Missed before blocked before total internal reflection; the three cases exclude each other.
-    let fate = V::only(!met, V::splat(FATE_MISSED))
-        .either(V::only(met & !inside, V::splat(FATE_BLOCKED)))
-        .either(V::only(met & inside & tir, V::splat(FATE_TIR)));
-    Hit { y: y1, z: z1, m: m1, l: l1, t, fate }
+    Hit { y: y1, z: z1, m: m1, l: l1, t, met, inside, tir }
 }
 
 /// [`hit`] for one ray through any surface, choosing the compiled form at run time.
@@ -302,8 +324,8 @@ pub fn through_step(step: &Step, index: usize, ray: &Ray, check_aperture: bool) 
         s.semi_aperture_mm = f64::INFINITY;
     }
     let h = hit_any(&s, ray.y_mm, ray.z_mm, ray.m, ray.l);
-    if h.fate != 0.0 {
-        return Err(fate_error(h.fate, index, h.y));
+    if !h.through() {
+        return Err(fate_error(h.fate(), index, h.y));
     }
     // Summed in the batch loop's order, so that the two agree bit for bit.
     let mut path = s.n_before * h.t;
