@@ -80,6 +80,8 @@ pub struct Workbench {
     pub(crate) show_safety: bool,
     pub(crate) show_keys: bool,
     pub(crate) path_prompt: Option<(PathPrompt, String)>,
+    /// Counts changes to the bench, so that a frame can tell whether it changed while being drawn.
+    revision: u64,
 }
 
 /// What a typed path is for.
@@ -112,6 +114,7 @@ impl Workbench {
             show_safety: false,
             show_keys: false,
             path_prompt: None,
+            revision: 0,
         }
     }
 
@@ -228,6 +231,7 @@ impl Workbench {
 
     /// Recomputes the report and the scene from the bench.
     pub fn refresh(&mut self) {
+        self.revision += 1;
         self.report = Report::of(&self.bench);
         self.scene = Scene::of(&self.bench);
     }
@@ -295,6 +299,7 @@ impl Workbench {
     /// Draws the whole workbench: menu bar, readout, part sheet, rail view and status line.
     pub fn ui(&mut self, ui: &mut egui::Ui) {
         self.keys_ui(ui);
+        let revision = self.revision;
         egui::Panel::top("menu").show(ui, |ui| self.menu_ui(ui));
         egui::Panel::bottom("status").show(ui, |ui| {
             ui.horizontal(|ui| {
@@ -309,6 +314,11 @@ impl Workbench {
         });
         egui::CentralPanel::default().show(ui, |ui| rail::rail_ui(self, ui));
         self.windows_ui(ui.ctx());
+        if self.revision != revision {
+            // A drag or an entry changed the bench after the readout was drawn: draw the frame again, so
+            // that rays, images and figures on screen always belong to the same layout.
+            ui.ctx().request_discard("the bench changed while the frame was drawn");
+        }
     }
 
     fn keys_ui(&mut self, ui: &mut egui::Ui) {

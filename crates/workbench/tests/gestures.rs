@@ -210,3 +210,19 @@ fn the_help_menu_shows_the_safety_cautions_and_the_shortcuts() {
     h.run();
     let _ = h.get_by_label_contains("nudge the selected part");
 }
+
+#[test]
+fn the_readout_belongs_to_the_layout_on_screen_in_the_same_frame() {
+    let mut h = harness("one-lens-screen");
+    let start = h.get_by_label("Projection lens").rect().center();
+    h.hover_at(start);
+    h.run();
+    h.drag_at(start);
+    h.run();
+    h.hover_at(start - egui::vec2(30.0, 0.0));
+    h.step(); // one frame only
+    let wb = h.state();
+    let expected = Report::of(&wb.bench).images.last().unwrap().at_mm.unwrap();
+    assert!((wb.bench.parts[0].at_mm - 300.0).abs() > 1.0, "the lens moved in this frame");
+    assert!(final_image_text(&h).contains(&format!("at {expected:.3} mm")), "{}", final_image_text(&h));
+}
