@@ -181,8 +181,9 @@ pub struct Report {
     pub trace_failure: Option<String>,
 }
 
-/// `v` with `digits` decimals, never "-0.000" for a value that rounds to zero.
-fn fixed(v: f64, digits: usize) -> String {
+/// `v` with `digits` decimals, never "-0.000" for a value that rounds to zero (every view formats figures
+/// with it).
+pub fn fixed(v: f64, digits: usize) -> String {
     let s = format!("{v:.digits$}");
     if s.starts_with('-') && s[1..].chars().all(|c| c == '0' || c == '.') { s[1..].to_string() } else { s }
 }

@@ -13,7 +13,7 @@ mod sheet;
 use lumenrail_bench::demos;
 use lumenrail_bench::file;
 use lumenrail_bench::model::{Bench, ObjectSpec, Part, PartKind};
-use lumenrail_bench::report::Report;
+use lumenrail_bench::report::{Report, fixed};
 use scene::Scene;
 use std::path::PathBuf;
 
@@ -82,6 +82,8 @@ pub struct Workbench {
     pub(crate) path_prompt: Option<(PathPrompt, String)>,
     /// Counts changes to the bench, so that a frame can tell whether it changed while being drawn.
     revision: u64,
+    /// Recently opened or saved files, newest first (kept by the window's settings).
+    pub recent: Vec<PathBuf>,
 }
 
 /// What a typed path is for.
@@ -115,6 +117,7 @@ impl Workbench {
             show_keys: false,
             path_prompt: None,
             revision: 0,
+            recent: Vec::new(),
         }
     }
 
@@ -127,11 +130,18 @@ impl Workbench {
         wb
     }
 
+    /// Replaces the document, keeping the view preferences (snap, exaggeration, recent files).
+    fn replace_document(&mut self, next: Workbench) {
+        let (snap_mm, exaggeration, recent) = (self.snap_mm, self.exaggeration, std::mem::take(&mut self.recent));
+        *self = next;
+        (self.snap_mm, self.exaggeration, self.recent) = (snap_mm, exaggeration, recent);
+    }
+
     /// Opens a bench file; on failure the current bench stays and the status says why.
     pub fn open(&mut self, path: PathBuf) -> bool {
         match file::load(&path) {
             Ok(loaded) => {
-                *self = Workbench::new(loaded.bench, Some(path.clone()));
+                self.replace_document(Workbench::new(loaded.bench, Some(path.clone())));
                 self.status = format!("opened {}", path.display());
                 if let Some(w) = loaded.warnings.first() {
                     self.status = w.to_string();
@@ -364,7 +374,7 @@ impl Workbench {
                         object: ObjectSpec::Point { at_mm: 0.0, height_mm: 5.0 },
                         parts: Vec::new(),
                     };
-                    *self = Workbench::new(bench, None);
+                    self.replace_document(Workbench::new(bench, None));
                 }
                 if ui.button("Open…").clicked() {
                     ui.close();
@@ -378,10 +388,20 @@ impl Workbench {
                 if ui.button("Open by path…").clicked() {
                     self.path_prompt = Some((PathPrompt::Open, String::new()));
                 }
+                let recent = self.recent.clone();
+                ui.add_enabled_ui(!recent.is_empty(), |ui| {
+                    ui.menu_button("Recent files", |ui| {
+                        for p in recent {
+                            if ui.button(p.display().to_string()).clicked() {
+                                self.open(p);
+                            }
+                        }
+                    });
+                });
                 ui.menu_button("Demo benches", |ui| {
                     for d in demos::DEMOS {
                         if ui.button(d.name).on_hover_text(d.summary()).clicked() {
-                            *self = Workbench::demo(d.name);
+                            self.replace_document(Workbench::demo(d.name));
                         }
                     }
                 });
@@ -392,6 +412,24 @@ impl Workbench {
                     self.save_to(p);
                 }
                 if ui.button("Save as…").clicked() {
+                    ui.close();
+                    let name = self
+                        .path
+                        .as_ref()
+                        .and_then(|p| p.file_name())
+                        .map_or_else(|| "bench.bench.ron".into(), |n| n.to_string_lossy().into_owned());
+                    let dialog = rfd::FileDialog::new()
+                        .add_filter("bench", &["ron"])
+                        .set_file_name(name)
+                        .set_title("Save bench as");
+                    match dialog.save_file() {
+                        Some(p) => {
+                            self.save_to(p);
+                        }
+                        None => self.status = "not saved (if no dialog appeared, use File → Save as by path…)".into(),
+                    }
+                }
+                if ui.button("Save as by path…").clicked() {
                     let current =
                         self.path.as_ref().map_or_else(|| "bench.bench.ron".into(), |p| p.display().to_string());
                     self.path_prompt = Some((PathPrompt::SaveAs, current));
@@ -474,8 +512,8 @@ impl Workbench {
             let title = if *kind == PathPrompt::Open { "Open bench file" } else { "Save bench as" };
             let mut go = false;
             egui::Window::new(title).collapsible(false).show(ctx, |ui| {
-                ui.label("Path of the .bench.ron file:");
-                let r = ui.text_edit_singleline(text);
+                let label = ui.label("Path of the .bench.ron file:");
+                let r = ui.text_edit_singleline(text).labelled_by(label.id);
                 go = r.lost_focus() && ui.input(|i| i.key_pressed(egui::Key::Enter));
                 ui.horizontal(|ui| {
                     go |= ui.button(if *kind == PathPrompt::Open { "Open" } else { "Save" }).clicked();
@@ -499,7 +537,7 @@ impl Workbench {
         if let Some(why) = &r.trace_failure {
             ui.colored_label(egui::Color32::from_rgb(200, 60, 40), format!("Cannot trace: {why}"));
         }
-        let mm = |v: Option<f64>| v.map_or_else(|| "—".to_string(), |v| format!("{v:.3} mm"));
+        let mm = |v: Option<f64>| v.map_or_else(|| "—".to_string(), |v| format!("{} mm", fixed(v, 3)));
         if let Some(img) = r.images.last() {
             let at = img.at_mm.map_or_else(|| "at infinity".to_string(), |z| format!("at {z:.3} mm"));
             let m = img.magnification.map_or_else(String::new, |m| format!(", m = {m:.4}"));

@@ -226,3 +226,44 @@ fn the_readout_belongs_to_the_layout_on_screen_in_the_same_frame() {
     assert!((wb.bench.parts[0].at_mm - 300.0).abs() > 1.0, "the lens moved in this frame");
     assert!(final_image_text(&h).contains(&format!("at {expected:.3} mm")), "{}", final_image_text(&h));
 }
+
+#[test]
+fn save_by_path_and_reopen_keeps_the_edit() {
+    let path = std::env::temp_dir().join(format!("lumenrail-gui-{}.bench.ron", std::process::id()));
+    let _ = std::fs::remove_file(&path);
+    let mut h = harness("one-lens-screen");
+    h.get_by_label("Projection lens").click();
+    h.run();
+    h.key_press(Key::ArrowLeft);
+    h.run();
+    assert!(h.state().dirty() && h.state().title().starts_with("● "));
+    h.get_by_label("File").click();
+    h.run();
+    h.get_by_label("Save as by path…").click();
+    h.run();
+    h.get_by_label("Path of the .bench.ron file:").focus();
+    h.run();
+    h.key_press_modifiers(egui::Modifiers::COMMAND, Key::A);
+    h.run();
+    h.get_by_label("Path of the .bench.ron file:").type_text(path.to_str().unwrap());
+    h.run();
+    h.get_by_label("Save").click();
+    h.run();
+    assert!(path.exists(), "{}", h.state().status);
+    assert!(!h.state().dirty());
+    // Reopen it in a fresh workbench, as a person would after restarting.
+    let mut again = harness("magnifier");
+    again.get_by_label("File").click();
+    again.run();
+    again.get_by_label("Open by path…").click();
+    again.run();
+    again.get_by_label("Path of the .bench.ron file:").focus();
+    again.run();
+    again.get_by_label("Path of the .bench.ron file:").type_text(path.to_str().unwrap());
+    again.run();
+    again.get_by_label("Open").click();
+    again.run();
+    assert_eq!(again.state().bench.part("Projection lens").unwrap().at_mm, 299.0, "{}", again.state().status);
+    assert!(final_image_text(&again).contains(&format!("at {:.3} mm", 299.0 + 1.0 / (1.0 / 100.0 - 1.0 / 299.0))));
+    let _ = std::fs::remove_file(&path);
+}
