@@ -88,20 +88,9 @@ impl eframe::App for WorkbenchApp {
         if let Some(p) = dropped.into_iter().next() {
             self.workbench.open(p);
         }
+        self.workbench.recent.clone_from(&self.settings.recent);
         self.workbench.ui(ui);
         self.remember();
-        if !self.settings.recent.is_empty() {
-            egui::Window::new("Recent files")
-                .default_open(false)
-                .anchor(egui::Align2::RIGHT_BOTTOM, egui::vec2(-8.0, -30.0))
-                .show(&ctx, |ui| {
-                    for p in self.settings.recent.clone() {
-                        if ui.button(p.display().to_string()).clicked() {
-                            self.workbench.open(p);
-                        }
-                    }
-                });
-        }
         let title = self.workbench.title();
         if title != self.last_title {
             ctx.send_viewport_cmd(egui::ViewportCommand::Title(title.clone()));
