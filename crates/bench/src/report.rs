@@ -7,6 +7,7 @@ use crate::model::{Bench, ObjectSpec, PartKind};
 use crate::validate::{Severity, validate};
 use lumenrail_optics::analysis::{Analysis, Request, analyse};
 use lumenrail_optics::pupil::{PupilError, StopAt};
+use lumenrail_optics::seidel::SeidelTerms;
 use lumenrail_optics::spot::SpotError;
 use lumenrail_optics::trace::RayError;
 use serde::Serialize;
@@ -110,26 +111,7 @@ pub struct Aberrations {
     /// Depth of focus, ± mm (±2λN_w², the quarter-wave rule, common practice).
     pub depth_of_focus_mm: Option<f64>,
     /// Seidel sums S_I..S_V, C_I, C_II (mm; Welford).
-    pub seidel: Option<SeidelSums>,
-}
-
-/// Seidel sums of the system.
-#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
-pub struct SeidelSums {
-    /// S_I spherical.
-    pub spherical: f64,
-    /// S_II coma.
-    pub coma: f64,
-    /// S_III astigmatism.
-    pub astigmatism: f64,
-    /// S_IV Petzval.
-    pub petzval: f64,
-    /// S_V distortion.
-    pub distortion: f64,
-    /// C_I axial colour.
-    pub axial_colour: f64,
-    /// C_II lateral colour.
-    pub lateral_colour: f64,
+    pub seidel: Option<SeidelTerms>,
 }
 
 /// Figures of an afocal bench (telescope, beam expander).
@@ -346,18 +328,7 @@ impl Report {
             working_f_number: a.working_f_number,
             image_na: a.image_na,
             depth_of_focus_mm: a.depth_of_focus_mm,
-            seidel: a.seidel.as_ref().map(|s| {
-                let t = s.total;
-                SeidelSums {
-                    spherical: t.spherical,
-                    coma: t.coma,
-                    astigmatism: t.astigmatism,
-                    petzval: t.petzval,
-                    distortion: t.distortion,
-                    axial_colour: t.axial_colour,
-                    lateral_colour: t.lateral_colour,
-                }
-            }),
+            seidel: a.seidel.as_ref().map(|s| s.total),
         };
         self.off_axis_transmission = a.off_axis_transmission;
         if let Some(t) = a.off_axis_transmission

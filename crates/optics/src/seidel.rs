@@ -12,6 +12,7 @@ use crate::system::{Kind, Sequence};
 
 /// The Seidel coefficients of one surface (or their sums), mm.
 #[derive(Debug, Clone, Copy, Default, PartialEq)]
+#[cfg_attr(feature = "serde", derive(serde::Serialize))]
 pub struct SeidelTerms {
     /// S_I, spherical aberration.
     pub spherical: f64,

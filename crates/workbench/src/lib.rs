@@ -531,7 +531,8 @@ impl Workbench {
     }
 
     fn readout_ui(&mut self, ui: &mut egui::Ui) {
-        let r = self.report.clone();
+        let r = &self.report;
+        let mut to_best_focus = None;
         ui.heading("Readout");
         ui.label(&r.title);
         if let Some(why) = &r.trace_failure {
@@ -612,7 +613,7 @@ impl Workbench {
                 if let Some(index) = self.bench.parts.iter().position(|p| p.name == s.part)
                     && ui.button(format!("Move {} to best focus", s.part)).clicked()
                 {
-                    self.move_screen_to_best_focus(index);
+                    to_best_focus = Some(index);
                 }
             }
         }
@@ -622,6 +623,9 @@ impl Workbench {
             for w in &r.warnings {
                 ui.label(format!("• {w}"));
             }
+        }
+        if let Some(index) = to_best_focus {
+            self.move_screen_to_best_focus(index);
         }
     }
 }

@@ -96,12 +96,7 @@ fn typing_a_focal_length_in_the_part_sheet_changes_the_figures() {
     let mut h = harness("one-lens-screen");
     h.get_by_label("Projection lens").click();
     h.run();
-    h.get_by_label("focal length (mm)").focus();
-    h.run();
-    h.key_press_modifiers(egui::Modifiers::COMMAND, Key::A);
-    h.run();
-    h.get_by_label("focal length (mm)").type_text("120");
-    h.run();
+    replace_text(&mut h, "focal length (mm)", "120");
     let wb = h.state();
     match &wb.bench.parts[0].kind {
         lumenrail_bench::model::PartKind::ThinLens { focal_mm, .. } => assert_eq!(*focal_mm, 120.0),
@@ -116,12 +111,7 @@ fn an_invalid_entry_shows_its_message_and_changes_nothing() {
     let mut h = harness("one-lens-screen");
     h.get_by_label("Projection lens").click();
     h.run();
-    h.get_by_label("diameter (mm)").focus();
-    h.run();
-    h.key_press_modifiers(egui::Modifiers::COMMAND, Key::A);
-    h.run();
-    h.get_by_label("diameter (mm)").type_text("-3");
-    h.run();
+    replace_text(&mut h, "diameter (mm)", "-3");
     assert_eq!(h.state().bench.parts[0].kind.diameter_mm(), 40.0);
     let msg = h.get_by_label_contains("must be a positive number").value().unwrap_or_default();
     assert!(msg.contains("Projection lens"), "{msg}");
@@ -241,12 +231,7 @@ fn save_by_path_and_reopen_keeps_the_edit() {
     h.run();
     h.get_by_label("Save as by path…").click();
     h.run();
-    h.get_by_label("Path of the .bench.ron file:").focus();
-    h.run();
-    h.key_press_modifiers(egui::Modifiers::COMMAND, Key::A);
-    h.run();
-    h.get_by_label("Path of the .bench.ron file:").type_text(path.to_str().unwrap());
-    h.run();
+    replace_text(&mut h, "Path of the .bench.ron file:", path.to_str().unwrap());
     h.get_by_label("Save").click();
     h.run();
     assert!(path.exists(), "{}", h.state().status);
@@ -257,10 +242,7 @@ fn save_by_path_and_reopen_keeps_the_edit() {
     again.run();
     again.get_by_label("Open by path…").click();
     again.run();
-    again.get_by_label("Path of the .bench.ron file:").focus();
-    again.run();
-    again.get_by_label("Path of the .bench.ron file:").type_text(path.to_str().unwrap());
-    again.run();
+    replace_text(&mut again, "Path of the .bench.ron file:", path.to_str().unwrap());
     again.get_by_label("Open").click();
     again.run();
     assert_eq!(again.state().bench.part("Projection lens").unwrap().at_mm, 299.0, "{}", again.state().status);
