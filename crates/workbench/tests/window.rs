@@ -1,0 +1,57 @@
+//! The window around the workbench, driven headless through the whole `eframe::App`: a dropped bench file
+//! opens, and closing with unsaved changes asks first.
+
+use egui_kittest::Harness;
+use egui_kittest::kittest::Queryable as _;
+use lumenrail_workbench::Workbench;
+use lumenrail_workbench::app::WorkbenchApp;
+use std::path::{Path, PathBuf};
+use std::sync::Arc;
+
+#[derive(Debug)]
+struct Dropped(PathBuf);
+
+impl egui::DroppedFile for Dropped {
+    fn path(&self) -> &Path {
+        &self.0
+    }
+    fn bytes(&self) -> Result<Vec<u8>, String> {
+        std::fs::read(&self.0).map_err(|e| e.to_string())
+    }
+}
+
+fn app(demo: &str) -> Harness<'static, WorkbenchApp> {
+    let mut h = Harness::builder()
+        .with_size(egui::vec2(1400.0, 860.0))
+        .build_eframe(|cc| WorkbenchApp::new(cc, Workbench::demo(demo), None));
+    h.run();
+    h
+}
+
+#[test]
+fn a_dropped_bench_file_opens() {
+    let path = std::env::temp_dir().join(format!("lumenrail-drop-{}.bench.ron", std::process::id()));
+    std::fs::write(&path, lumenrail_bench::demos::find("unit-relay").unwrap().text).unwrap();
+    let mut h = app("one-lens-screen");
+    h.input_mut().dropped_files.push(Arc::new(Dropped(path.clone())));
+    h.run();
+    assert_eq!(h.state().workbench.path.as_deref(), Some(path.as_path()));
+    let _ = h.get_by_label("Relay A");
+    let _ = std::fs::remove_file(&path);
+}
+
+#[test]
+fn closing_with_unsaved_changes_asks_first() {
+    let mut h = app("one-lens-screen");
+    h.state_mut().workbench.selected = Some(0);
+    h.state_mut().workbench.nudge(5.0);
+    h.run();
+    assert!(h.state().workbench.dirty());
+    let id = egui::ViewportId::ROOT;
+    h.input_mut().viewports.entry(id).or_default().events.push(egui::ViewportEvent::Close);
+    h.run();
+    let _ = h.get_by_label_contains("unsaved changes");
+    h.get_by_label("Keep working").click();
+    h.run();
+    assert!(h.query_by_label_contains("unsaved changes").is_none());
+}
