@@ -45,6 +45,7 @@ pub mod pupil;
 pub mod quadrature;
 pub mod seidel;
 mod simd;
+pub mod skew;
 pub mod spot;
 pub mod system;
 pub mod trace;
