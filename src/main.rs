@@ -54,6 +54,9 @@ fn main() -> ExitCode {
             Ok(()) => ExitCode::SUCCESS,
             Err(e) => {
                 eprintln!("lumenrail: {e}");
+                if e.contains("DISPLAY") {
+                    eprintln!("lumenrail: no display to open the workbench on; `lumenrail report FILE` works without one");
+                }
                 ExitCode::from(2)
             }
         },
