@@ -180,7 +180,7 @@ impl Report {
     pub fn of(bench: &Bench) -> Report {
         let mut report = Report {
             title: bench.title.clone(),
-            primary_wavelength_nm: bench.primary_wavelength_nm().unwrap_or(f64::NAN),
+            primary_wavelength_nm: bench.primary_wavelength_nm().filter(|w| w.is_finite()).unwrap_or(0.0),
             first_order: FirstOrderFigures::default(),
             stop: None,
             images: Vec::new(),
@@ -197,7 +197,6 @@ impl Report {
             findings.iter().filter(|f| f.severity == Severity::Error).map(|f| f.message.clone()).collect();
         report.warnings.extend(findings.iter().filter(|f| f.severity == Severity::Warning).map(|f| f.message.clone()));
         if !errors.is_empty() {
-            report.primary_wavelength_nm = bench.primary_wavelength_nm().filter(|w| w.is_finite()).unwrap_or(0.0);
             report.trace_failure = Some(errors.join("; "));
             return report;
         }
