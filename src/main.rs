@@ -55,7 +55,9 @@ fn main() -> ExitCode {
             Err(e) => {
                 eprintln!("lumenrail: {e}");
                 if e.contains("DISPLAY") {
-                    eprintln!("lumenrail: no display to open the workbench on; `lumenrail report FILE` works without one");
+                    eprintln!(
+                        "lumenrail: no display to open the workbench on; `lumenrail report FILE` works without one"
+                    );
                 }
                 ExitCode::from(2)
             }
