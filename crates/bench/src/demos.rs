@@ -18,30 +18,28 @@ impl Demo {
     }
 }
 
+/// A demo from its name: the file is `assets/demos/NAME.bench.ron`, so the two cannot disagree.
+macro_rules! demo {
+    ($name:literal) => {
+        Demo { name: $name, text: include_str!(concat!("../../../assets/demos/", $name, ".bench.ron")) }
+    };
+}
+
 /// Every demo, in the order a menu should list them.
 pub const DEMOS: &[Demo] = &[
-    Demo { name: "one-lens-screen", text: include_str!("../../../assets/demos/one-lens-screen.bench.ron") },
-    Demo { name: "magnifier", text: include_str!("../../../assets/demos/magnifier.bench.ron") },
-    Demo { name: "diverging-lens", text: include_str!("../../../assets/demos/diverging-lens.bench.ron") },
-    Demo {
-        name: "diverging-then-converging",
-        text: include_str!("../../../assets/demos/diverging-then-converging.bench.ron"),
-    },
-    Demo { name: "unit-relay", text: include_str!("../../../assets/demos/unit-relay.bench.ron") },
-    Demo { name: "microscope-model", text: include_str!("../../../assets/demos/microscope-model.bench.ron") },
-    Demo { name: "keplerian-telescope", text: include_str!("../../../assets/demos/keplerian-telescope.bench.ron") },
-    Demo { name: "galilean-expander", text: include_str!("../../../assets/demos/galilean-expander.bench.ron") },
-    Demo {
-        name: "plano-convex-curved-first",
-        text: include_str!("../../../assets/demos/plano-convex-curved-first.bench.ron"),
-    },
-    Demo {
-        name: "plano-convex-flat-first",
-        text: include_str!("../../../assets/demos/plano-convex-flat-first.bench.ron"),
-    },
-    Demo { name: "colour-singlet", text: include_str!("../../../assets/demos/colour-singlet.bench.ron") },
-    Demo { name: "colour-achromat", text: include_str!("../../../assets/demos/colour-achromat.bench.ron") },
-    Demo { name: "autocollimation", text: include_str!("../../../assets/demos/autocollimation.bench.ron") },
+    demo!("one-lens-screen"),
+    demo!("magnifier"),
+    demo!("diverging-lens"),
+    demo!("diverging-then-converging"),
+    demo!("unit-relay"),
+    demo!("microscope-model"),
+    demo!("keplerian-telescope"),
+    demo!("galilean-expander"),
+    demo!("plano-convex-curved-first"),
+    demo!("plano-convex-flat-first"),
+    demo!("colour-singlet"),
+    demo!("colour-achromat"),
+    demo!("autocollimation"),
 ];
 
 /// The demo the workbench opens when no file is given.

@@ -2,7 +2,7 @@
 //! object points at every wavelength, and the images. Rebuilt whenever the bench changes.
 
 use lumenrail_bench::compile;
-use lumenrail_bench::model::{Bench, ObjectSpec};
+use lumenrail_bench::model::Bench;
 use lumenrail_optics::paraxial::{self, Object};
 use lumenrail_optics::pupil::{Aimer, FieldPoint, Pupils};
 use lumenrail_optics::trace::trace_path;
@@ -119,9 +119,8 @@ impl Scene {
                 }
             }
         }
-        if let ObjectSpec::Point { .. } = bench.object {
-            scene.rays.retain(|r| r.points.len() >= 2);
-        }
+        // A ray that missed the first surface has only its start: nothing to draw.
+        scene.rays.retain(|r| r.points.len() >= 2);
         scene
     }
 }
