@@ -1,6 +1,6 @@
 //! Benchmarks of the exact trace: the batched meridional kernel (portable and AVX2 builds) on 10^6 rays
 #![allow(missing_docs)] // criterion_group! generates undocumented items.
-//! through 10 spherical surfaces, and the whole first-order + stop + spot evaluation of a 12-surface
+//! through 10 spherical surfaces, the batched skew kernel on the same, and the whole first-order + stop + spot evaluation of a 12-surface
 //! system.
 
 use criterion::{BatchSize, Criterion, Throughput, criterion_group, criterion_main};
@@ -10,6 +10,10 @@ use lumenrail_optics::batch::trace_batch_avx2;
 use lumenrail_optics::batch::{RayBatch, trace_batch, trace_batch_portable};
 use lumenrail_optics::material::Material;
 use lumenrail_optics::paraxial::Object;
+use lumenrail_optics::skew::SkewRay;
+#[cfg(target_arch = "x86_64")]
+use lumenrail_optics::skew_batch::trace_skew_batch_avx2;
+use lumenrail_optics::skew_batch::{SkewBatch, trace_skew_batch, trace_skew_batch_portable};
 use lumenrail_optics::system::{Sequence, Shape, Surface, System};
 use lumenrail_optics::trace::Ray;
 use std::hint::black_box;
@@ -66,6 +70,43 @@ fn batch_trace(c: &mut Criterion) {
     g.finish();
 }
 
+/// Skew rays from an off-axis point filling a 12 mm disk at the first surface (all pass the apertures).
+fn fresh_skew_batch() -> SkewBatch {
+    let mut b = SkewBatch::with_capacity(RAYS);
+    for i in 0..RAYS {
+        let (r, phi) = (6.0 * (i as f64 / RAYS as f64).sqrt(), 2.399_963 * i as f64);
+        b.push(SkewRay::towards([0.0, -3.0, 0.0], [r * phi.sin(), r * phi.cos(), 20.0]));
+    }
+    b
+}
+
+fn skew_batch_trace(c: &mut Criterion) {
+    let seq = ten_surfaces();
+    let template = fresh_skew_batch();
+    let mut g = c.benchmark_group("skew_batch");
+    g.throughput(Throughput::Elements((RAYS * seq.steps.len()) as u64));
+    g.sample_size(20);
+    let fresh = || template.clone();
+    g.bench_function("dispatched_1e6_rays_10_surfaces", |b| {
+        b.iter_batched_ref(fresh, |work| trace_skew_batch(&seq, black_box(work)), BatchSize::LargeInput)
+    });
+    #[cfg(target_arch = "x86_64")]
+    if std::arch::is_x86_feature_detected!("avx2") && std::arch::is_x86_feature_detected!("fma") {
+        g.bench_function("avx2_1e6_rays_10_surfaces", |b| {
+            // SAFETY: AVX2 and FMA were just detected.
+            b.iter_batched_ref(
+                fresh,
+                |work| unsafe { trace_skew_batch_avx2(&seq, black_box(work)) },
+                BatchSize::LargeInput,
+            )
+        });
+    }
+    g.bench_function("portable_1e6_rays_10_surfaces", |b| {
+        b.iter_batched_ref(fresh, |work| trace_skew_batch_portable(&seq, black_box(work)), BatchSize::LargeInput)
+    });
+    g.finish();
+}
+
 /// A 12-surface system: an iris and a doublet-like stack of singlets, finite object.
 fn twelve_surfaces() -> System {
     let mut surfaces = vec![Surface::aperture(95.0, 6.0).in_element(0)];
@@ -98,5 +139,5 @@ fn whole_evaluation(c: &mut Criterion) {
     });
 }
 
-criterion_group!(benches, batch_trace, whole_evaluation);
+criterion_group!(benches, batch_trace, skew_batch_trace, whole_evaluation);
 criterion_main!(benches);

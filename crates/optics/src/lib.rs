@@ -38,14 +38,17 @@
 
 pub mod analysis;
 pub mod batch;
+pub mod field;
 pub mod library;
 pub mod material;
 pub mod paraxial;
 pub mod pupil;
 pub mod quadrature;
+pub mod sampling;
 pub mod seidel;
 mod simd;
 pub mod skew;
+pub mod skew_batch;
 pub mod spot;
 pub mod system;
 pub mod trace;

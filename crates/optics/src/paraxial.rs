@@ -180,6 +180,17 @@ pub enum Object {
 }
 
 impl Object {
+    /// The same object with its off-axis point moved to `fraction` of the way out: `fraction` of the
+    /// object height, or of the field angle (0 is the on-axis point, 1 the off-axis point).
+    pub fn at_field(&self, fraction: f64) -> Object {
+        match *self {
+            Object::Finite { z_mm, height_mm } => Object::Finite { z_mm, height_mm: fraction * height_mm },
+            Object::Distant { field_deg, beam_diameter_mm } => {
+                Object::Distant { field_deg: fraction * field_deg, beam_diameter_mm }
+            }
+        }
+    }
+
     /// The paraxial axial ray from the on-axis object point at the first vertex plane (y, nu): for a
     /// finite object a ray of unit slope from the object point; for a distant one a unit-height ray
     /// parallel to the axis.

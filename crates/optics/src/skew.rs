@@ -4,7 +4,8 @@
 //! Coordinates: x horizontal (out of the rail's drawing plane), y up, z along the rail. A meridional ray
 //! (x = 0, no x direction) traced here agrees with [`crate::trace`] to rounding.
 
-use crate::system::{Kind, Sequence, Step};
+use crate::skew_batch::{hit3_any, hit3_error};
+use crate::system::{Sequence, Step};
 use crate::trace::RayError;
 
 /// A real ray in 3-D: a point, a unit direction and the optical path travelled so far.
@@ -45,74 +46,20 @@ impl SkewRay {
     }
 }
 
-/// One skew ray through one surface. The root choice, aperture check and refraction follow the meridional
-/// kernel ([`crate::trace`]): t = f / (−b + sgn(−b)√(b² − af)) for the conicoid
-/// c(x² + y²) − 2s + c(1+k)s² = 0, the other root d/a when the first lands on the far sheet.
+/// One skew ray through one surface, by the kernel the batched skew trace runs
+/// ([`crate::skew_batch`]): the root choice, aperture check and refraction follow the meridional kernel
+/// ([`crate::trace`]), with t = f / (−b + sgn(−b)√(b² − af)) for the conicoid
+/// c(x² + y²) − 2s + c(1+k)s² = 0 and the other root d/a when the first lands on the far sheet.
 pub fn through_step(step: &Step, index: usize, ray: &SkewRay, check_aperture: bool) -> Result<SkewRay, RayError> {
-    let (c, ck) = (step.c, step.c * (1.0 + step.k));
-    let (x, y, k, m, l) = (ray.x_mm, ray.y_mm, ray.k, ray.m, ray.l);
-    let s0 = ray.z_mm - step.z_mm;
-    let t = if c == 0.0 {
-        if l == 0.0 {
-            return Err(RayError::Missed { surface: index });
-        }
-        -s0 / l
-    } else {
-        let a = ck * l * l + c * (k * k + m * m);
-        let b = ck * s0 * l + c * (x * k + y * m) - l;
-        let f = ck * s0 * s0 + c * (x * x + y * y) - 2.0 * s0;
-        let disc = b * b - a * f;
-        if disc < 0.0 {
-            return Err(RayError::Missed { surface: index });
-        }
-        let d = -b + disc.sqrt().copysign(-b);
-        let t1 = f / d;
-        let on_vertex_sheet = |t: f64| 1.0 - ck * (s0 + t * l) > 0.0;
-        if on_vertex_sheet(t1) {
-            t1
-        } else if a != 0.0 && on_vertex_sheet(d / a) {
-            d / a
-        } else {
-            return Err(RayError::Missed { surface: index });
-        }
-    };
-    let (x1, y1, z1) = (x + t * k, y + t * m, ray.z_mm + t * l);
-    let rho2 = x1 * x1 + y1 * y1;
-    if check_aperture && rho2 > step.semi_aperture_mm * step.semi_aperture_mm {
-        return Err(RayError::Blocked { surface: index, height_mm: rho2.sqrt() });
+    let mut s = *step;
+    if !check_aperture {
+        s.semi_aperture_mm = f64::INFINITY;
     }
-    // Surface normal (−cx, −cy, 1 − c(1+k)s), a unit vector for a sphere; normalised for a conicoid.
-    let (mut nx, mut ny, mut nz) = (-c * x1, -c * y1, 1.0 - ck * (z1 - step.z_mm));
-    if step.k != 0.0 {
-        let inv = 1.0 / (nx * nx + ny * ny + nz * nz).sqrt();
-        (nx, ny, nz) = (nx * inv, ny * inv, nz * inv);
+    let h = hit3_any(&s, [ray.x_mm, ray.y_mm, ray.z_mm, ray.k, ray.m, ray.l]);
+    if !h.through() {
+        return Err(hit3_error(&h, index));
     }
-    let cos_i = k * nx + m * ny + l * nz;
-    let (k1, m1, l1) = match step.kind {
-        Kind::Refract => {
-            let mu = step.n_before / step.n_after;
-            // sin²I from the cross product, which keeps its digits near normal incidence.
-            let (cx, cy, cz) = (m * nz - l * ny, l * nx - k * nz, k * ny - m * nx);
-            let cos2 = 1.0 - mu * mu * (cx * cx + cy * cy + cz * cz);
-            if cos2 < 0.0 {
-                return Err(RayError::TotalInternalReflection { surface: index });
-            }
-            let g = cos2.sqrt().copysign(cos_i) - mu * cos_i;
-            (mu * k + g * nx, mu * m + g * ny, mu * l + g * nz)
-        }
-        Kind::Reflect => (k - 2.0 * cos_i * nx, m - 2.0 * cos_i * ny, l - 2.0 * cos_i * nz),
-        Kind::Ideal(f) => {
-            // tan u' = tan u − ρ/f in each of x and y, along the direction of travel.
-            let (tx, ty) = (k / l.abs() - x1 / f, m / l.abs() - y1 / f);
-            let inv = 1.0 / (1.0 + tx * tx + ty * ty).sqrt();
-            (tx * inv, ty * inv, inv.copysign(l))
-        }
-    };
-    let mut path = step.n_before * t;
-    if let Kind::Ideal(f) = step.kind {
-        path -= step.n_before * ((rho2 + f * f).sqrt() - f.abs()) * f.signum();
-    }
-    let out = SkewRay { x_mm: x1, y_mm: y1, z_mm: z1, k: k1, m: m1, l: l1, opl_mm: ray.opl_mm + path };
+    let out = SkewRay { x_mm: h.x, y_mm: h.y, z_mm: h.z, k: h.k, m: h.m, l: h.l, opl_mm: ray.opl_mm + h.path };
     if !out.is_finite() {
         return Err(RayError::NonFinite { surface: Some(index) });
     }

@@ -162,12 +162,12 @@ pub(crate) const IDEAL: u8 = 2;
 /// The numbers of a step that the kernel reads, splatted into lanes once per surface.
 #[derive(Clone, Copy)]
 pub(crate) struct StepLanes<V> {
-    c: V,
-    ck: V,
-    z_vertex: V,
-    semi: V,
-    mu: V,
-    focal: V,
+    pub(crate) c: V,
+    pub(crate) ck: V,
+    pub(crate) z_vertex: V,
+    pub(crate) semi: V,
+    pub(crate) mu: V,
+    pub(crate) focal: V,
 }
 
 impl<V: Lane> StepLanes<V> {

@@ -418,7 +418,7 @@ fn paraboloid_coma_is_three_to_one() {
 /// *Fundamentals of Optics*; Kingslake, *Lens Design Fundamentals*), distances along the chief ray, positive
 /// for a real object and image: sagittal n'/s' + n/s = (n'cos I' − n cos I)/R, tangential
 /// n'cos²I'/t' + n cos²I/t = (n'cos I' − n cos I)/R. The foci are found from pairs of skew rays at ±δ
-/// about the chief ray, whose symmetric difference leaves an O(δ²) error (δ = 1e-5: about 1e-10).
+/// about the chief ray (sagittally δ = 1e-5, whose symmetric pair leaves an O(δ²) error of about 1e-10).
 #[test]
 fn coddington_foci_of_a_tilted_bundle() {
     use lumenrail_optics::skew::{SkewRay, trace as trace3};
@@ -453,14 +453,53 @@ fn coddington_foci_of_a_tilted_bundle() {
     let p = [0.0, sp.y_mm + t_cross * sp.m, sp.z_mm + t_cross * sp.l];
     let s_traced = ((p[1] - chief.y_mm).powi(2) + (p[2] - chief.z_mm).powi(2)).sqrt();
     assert!((s_traced / s_img - 1.0).abs() < 1e-9, "sagittal {s_traced} vs {s_img}");
-    // Tangential: the two rays (in the meridional plane) cross each other.
-    let (a, b) = pair([0.0, d, 0.0]);
-    let det = a.m * (-b.l) - a.l * (-b.m);
-    let ta = ((b.y_mm - a.y_mm) * (-b.l) - (b.z_mm - a.z_mm) * (-b.m)) / det;
-    let q = [a.y_mm + ta * a.m, a.z_mm + ta * a.l];
-    let t_traced = ((q[0] - chief.y_mm).powi(2) + (q[1] - chief.z_mm).powi(2)).sqrt();
-    // Measured: 4e-14 (sagittal, whose pair is symmetric about the meridional plane) and 3.4e-10.
+    // Tangential: the two rays (in the meridional plane) cross each other. Their crossing carries an O(δ²)
+    // error, removed by Richardson extrapolation from δ and 2δ (δ = 1e-3 keeps rounding near 1e-13).
+    let tangential = |d: f64| {
+        let (a, b) = pair([0.0, d, 0.0]);
+        let det = a.m * (-b.l) - a.l * (-b.m);
+        let ta = ((b.y_mm - a.y_mm) * (-b.l) - (b.z_mm - a.z_mm) * (-b.m)) / det;
+        let q = [a.y_mm + ta * a.m, a.z_mm + ta * a.l];
+        ((q[0] - chief.y_mm).powi(2) + (q[1] - chief.z_mm).powi(2)).sqrt()
+    };
+    let t_traced = (4.0 * tangential(1e-3) - tangential(2e-3)) / 3.0;
+    // Measured: 4e-14 (sagittal, whose pair is symmetric about the meridional plane) and 4e-11.
     assert!((t_traced / t_img - 1.0).abs() < 1e-9, "tangential {t_traced} vs {t_img}");
     // The bundle is astigmatic: the tangential focus lies nearer the surface.
     assert!(t_img < s_img - 1.0);
+}
+
+/// The field-curve figures of the views (`field::field_sample`, Richardson-extrapolated pairs of aimed skew
+/// rays) against the Coddington equations (Jenkins & White, *Fundamentals of Optics*; Kingslake, *Lens
+/// Design Fundamentals*) for a sphere with the stop at its vertex, so the chief ray meets the vertex at the
+/// field angle: s' = n'/(P − n/s), t' = n'cos²I'/(P − n cos²I/s), P = (n'cos I' − n cos I)/R.
+#[test]
+fn field_curves_obey_coddington() {
+    use lumenrail_optics::field::field_sample;
+    use lumenrail_optics::paraxial::Object;
+    use lumenrail_optics::pupil::Pupils;
+    let (n, n1, r) = (1.0, 1.5, 50.0);
+    let s = seq(vec![
+        Surface::aperture(0.0, 2.0),
+        Surface::refracting(0.0, Shape::sphere(r), Material::Constant(n1)).with_semi_aperture(30.0),
+    ]);
+    let (zo, h) = (-200.0, 40.0);
+    let object = Object::Finite { z_mm: zo, height_mm: h };
+    let pupils = Pupils::find(&s, &object).unwrap();
+    let image_at = n1 / ((n1 - n) / r - n / -zo);
+    let sample = field_sample(&s, object, &pupils, 1.0, image_at, 0.0).unwrap();
+    let dist = zo.hypot(h);
+    let cos_i = -zo / dist;
+    let sin_r = n / n1 * (1.0 - cos_i * cos_i).sqrt();
+    let cos_r = (1.0 - sin_r * sin_r).sqrt();
+    let power = (n1 * cos_r - n * cos_i) / r;
+    let s_img = n1 / (power - n / dist);
+    let t_img = n1 * cos_r * cos_r / (power - n * cos_i * cos_i / dist);
+    // Rail positions of the foci along the refracted chief ray from the vertex.
+    let (zs, zt) = (s_img * cos_r, t_img * cos_r);
+    let (got_s, got_t) = (sample.sagittal_mm + image_at, sample.tangential_mm + image_at);
+    assert!((got_s / zs - 1.0).abs() < 1e-9, "sagittal {got_s} vs {zs}");
+    assert!((got_t / zt - 1.0).abs() < 1e-9, "tangential {got_t} vs {zt}");
+    // A positive sphere's field curves inward, the tangential more (Petzval and astigmatism).
+    assert!(sample.tangential_mm < sample.sagittal_mm && sample.sagittal_mm < 0.0);
 }
