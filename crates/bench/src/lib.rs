@@ -14,3 +14,4 @@ pub mod file;
 pub mod model;
 pub mod report;
 pub mod validate;
+pub mod views;

@@ -6,7 +6,11 @@ use crate::compile::{self, Compiled};
 use crate::model::{Bench, ObjectSpec, PartKind};
 use crate::validate::{Severity, validate};
 use lumenrail_optics::analysis::{Analysis, Request, analyse};
+use lumenrail_optics::field::{chief_height_at, field_sample};
+use lumenrail_optics::paraxial::Object;
+use lumenrail_optics::pupil::Pupils;
 use lumenrail_optics::pupil::{PupilError, StopAt};
+
 use lumenrail_optics::seidel::SeidelTerms;
 use lumenrail_optics::spot::SpotError;
 use lumenrail_optics::trace::RayError;
@@ -114,6 +118,25 @@ pub struct Aberrations {
     pub seidel: Option<SeidelTerms>,
 }
 
+/// Field figures of the off-axis object point, from real rays through the real stop.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct FieldFigures {
+    /// Tangential focus of the thin bundle about the real chief ray, less the paraxial image, mm along
+    /// the light (field curvature).
+    pub tangential_focus_mm: f64,
+    /// Sagittal focus less the paraxial image, mm along the light.
+    pub sagittal_focus_mm: f64,
+    /// Tangential less sagittal focus, mm (astigmatism).
+    pub astigmatism_mm: f64,
+    /// Real chief ray height at the paraxial image plane, mm.
+    pub chief_height_mm: f64,
+    /// (real − paraxial)/paraxial image height, %.
+    pub distortion_percent: Option<f64>,
+    /// Real chief ray height at the paraxial image plane at the longest wavelength less at the shortest,
+    /// mm (lateral colour).
+    pub lateral_colour_mm: Option<f64>,
+}
+
 /// Figures of an afocal bench (telescope, beam expander).
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct Afocal {
@@ -155,6 +178,9 @@ pub struct Report {
     pub afocal: Option<Afocal>,
     /// Share of the off-axis point's meridional pupil that passes every aperture (1: no vignetting).
     pub off_axis_transmission: Option<f64>,
+    /// Field curvature, astigmatism, distortion and lateral colour of the off-axis point (null without a
+    /// final image or an off-axis point).
+    pub field: Option<FieldFigures>,
     /// Final paraxial image position at every wavelength.
     pub colour: Vec<ColourFocus>,
     /// Everything that needs a look.
@@ -188,6 +214,7 @@ impl Report {
             aberrations: Aberrations::default(),
             afocal: None,
             off_axis_transmission: None,
+            field: None,
             colour: Vec::new(),
             warnings: Vec::new(),
             trace_failure: None,
@@ -399,9 +426,44 @@ impl Report {
             }
             self.screens.push(fig);
         }
+        self.field = Self::field_figures(compiled, a);
         if matches!(bench.object, ObjectSpec::Distant { .. }) && a.first_order.is_some_and(|f| f.power_per_mm > 0.0) {
             self.warnings.push("caution: a converging bench aimed at the sun or a strong lamp focuses enough light to burn skin and eyes and to start fires".into());
         }
+    }
+
+    fn field_figures(compiled: &Compiled, a: &Analysis) -> Option<FieldFigures> {
+        let image = a.images.last()?;
+        let (at, height) = (image.at_mm?, image.height_mm?);
+        let p = a.pupils.as_ref().ok()?;
+        let object = compiled.object;
+        let off_axis = match object {
+            Object::Finite { height_mm, .. } => height_mm,
+            Object::Distant { field_deg, .. } => field_deg,
+        };
+        if off_axis == 0.0 {
+            return None;
+        }
+        let s = field_sample(&a.primary, object, p, 1.0, at, height).ok()?;
+        let chief_at = |w: f64| -> Option<f64> {
+            let seq = compiled.system.at(w).ok()?;
+            let pupils = Pupils::find(&seq, &object).ok()?;
+            chief_height_at(&seq, object, &pupils, 1.0, at).ok()
+        };
+        let (short, long) = a
+            .colour
+            .iter()
+            .fold((f64::INFINITY, f64::NEG_INFINITY), |(lo, hi), c| (lo.min(c.wavelength_nm), hi.max(c.wavelength_nm)));
+        let lateral_colour_mm =
+            if long > short { chief_at(long).zip(chief_at(short)).map(|(l, s)| l - s) } else { None };
+        Some(FieldFigures {
+            tangential_focus_mm: s.tangential_mm,
+            sagittal_focus_mm: s.sagittal_mm,
+            astigmatism_mm: s.tangential_mm - s.sagittal_mm,
+            chief_height_mm: s.chief_height_mm,
+            distortion_percent: s.distortion.map(|d| 100.0 * d),
+            lateral_colour_mm,
+        })
     }
 
     /// Whether the bench traced as asked (no `trace_failure`).
@@ -507,6 +569,17 @@ impl Report {
         }
         if let Some(v) = self.off_axis_transmission {
             let _ = writeln!(t, "  off-axis point keeps {:.1}% of its meridional pupil", 100.0 * v);
+        }
+        if let Some(f) = &self.field {
+            let _ = writeln!(
+                t,
+                "  off-axis foci from the paraxial image: tangential {}, sagittal {} (astigmatism {})",
+                mm(Some(f.tangential_focus_mm)),
+                mm(Some(f.sagittal_focus_mm)),
+                mm(Some(f.astigmatism_mm))
+            );
+            let pc = f.distortion_percent.map_or_else(|| "—".to_string(), |d| format!("{}%", fixed(d, 4)));
+            let _ = writeln!(t, "  distortion {pc}   lateral colour {}", mm(f.lateral_colour_mm));
         }
         if !self.warnings.is_empty() {
             let _ = writeln!(t, "\nWarnings");
