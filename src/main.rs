@@ -7,7 +7,7 @@ use clap::{Parser, Subcommand};
 use lumenrail_bench::{demos, file, report::Report};
 use lumenrail_optics::library;
 use std::io::Write;
-use std::path::PathBuf;
+use std::path::{Path, PathBuf};
 use std::process::ExitCode;
 
 /// Lay out optical benches and ray-trace them exactly.
@@ -45,6 +45,27 @@ enum Command {
     },
     /// List the built-in materials with their published sources.
     Materials,
+    /// Write one analysis view of a bench as a CSV table and/or a PNG picture (drawn without a window).
+    Export {
+        /// The bench file (.bench.ron).
+        file: PathBuf,
+        /// The view: spot, fan, sweep, colour or field.
+        #[arg(long, value_parser = ["spot", "fan", "sweep", "colour", "field"])]
+        view: String,
+        /// Where to write the view's data (header row with units, one row per datum).
+        #[arg(long, value_name = "OUT.csv")]
+        csv: Option<PathBuf>,
+        /// Where to write the view's picture.
+        #[arg(long, value_name = "OUT.png")]
+        png: Option<PathBuf>,
+        /// The spot and fan views' plane: a screen's name, `best` (best focus) or a rail position in mm
+        /// (default: the first screen after the last part, else best focus).
+        #[arg(long)]
+        plane: Option<String>,
+        /// The spot diagram's pupil grid.
+        #[arg(long, default_value = "hexapolar", value_parser = ["hexapolar", "square", "polar"])]
+        grid: String,
+    },
 }
 
 fn main() -> ExitCode {
@@ -65,6 +86,9 @@ fn main() -> ExitCode {
         Some(Command::Report { file, json }) => report(&file, json),
         Some(Command::Check { file }) => check(&file),
         Some(Command::Demos { name }) => demos_cmd(name.as_deref()),
+        Some(Command::Export { file, view, csv, png, plane, grid }) => {
+            export(&file, &view, csv.as_deref(), png.as_deref(), plane.as_deref(), &grid)
+        }
         Some(Command::Materials) => {
             for e in library::entries() {
                 println!("{:<18} {}\n{:<18} source: {}", e.name, e.description, "", e.source);
@@ -97,6 +121,76 @@ fn report(path: &std::path::Path, json: bool) -> ExitCode {
     if let Some(why) = &report.trace_failure {
         eprintln!("{}: cannot trace as asked: {why}", path.display());
         return ExitCode::from(1);
+    }
+    ExitCode::SUCCESS
+}
+
+fn export(
+    path: &Path,
+    view: &str,
+    csv: Option<&Path>,
+    png: Option<&Path>,
+    plane: Option<&str>,
+    grid: &str,
+) -> ExitCode {
+    use lumenrail_bench::views::{Plane, ViewKind, ViewRequest, Views};
+    use lumenrail_optics::sampling::Grid;
+    if csv.is_none() && png.is_none() {
+        eprintln!("lumenrail export: say where to write the view: --csv OUT.csv and/or --png OUT.png");
+        return ExitCode::from(2);
+    }
+    let kind = ViewKind::from_word(view).expect("clap checked the view's name");
+    let loaded = match file::load(path) {
+        Ok(l) => l,
+        Err(e) => {
+            print_diagnostics(&e.diagnostics);
+            return ExitCode::from(2);
+        }
+    };
+    print_diagnostics(&loaded.warnings);
+    let bench = &loaded.bench;
+    let plane = match plane {
+        None => Plane::Auto,
+        Some("best") => Plane::BestFocus,
+        Some(p) => match p.parse::<f64>() {
+            Ok(z) if z.is_finite() => Plane::At(z),
+            _ if bench.part(p).is_some() => Plane::Screen(p.to_string()),
+            _ => {
+                eprintln!("lumenrail export: --plane {p}: not a part of the bench, `best`, or a rail position in mm");
+                return ExitCode::from(2);
+            }
+        },
+    };
+    let grid = match grid {
+        "square" => Grid::Square { across: 15 },
+        "polar" => Grid::Polar { rings: 6, arms: 12 },
+        _ => Grid::Hexapolar { rings: 6 },
+    };
+    let report = Report::of(bench);
+    if let Some(why) = &report.trace_failure {
+        eprintln!("{}: cannot trace as asked: {why}", path.display());
+        return ExitCode::from(1);
+    }
+    let views = Views::of(bench, &report, &ViewRequest { plane, grid });
+    let mut outputs: Vec<(&Path, Option<Vec<u8>>)> = Vec::new();
+    if let Some(p) = csv {
+        outputs.push((p, views.csv(kind).map(String::into_bytes)));
+    }
+    if let Some(p) = png {
+        let has_data = views.csv(kind).is_some();
+        let picture = lumenrail_workbench::plots::view_png(&views, kind, &bench.title);
+        outputs.push((p, has_data.then(|| lumenrail_workbench::plots::encode_png(&picture)).flatten()));
+    }
+    for (out, bytes) in outputs {
+        let Some(bytes) = bytes else {
+            eprintln!("{}: the {view} view has nothing to show: {}", path.display(), views.notes.join("; "));
+            return ExitCode::from(1);
+        };
+        if let Err(e) = file::write_atomic(out, &bytes) {
+            eprintln!("lumenrail export: {e}");
+            return ExitCode::from(2);
+        }
+        eprintln!("wrote {}", out.display());
     }
     ExitCode::SUCCESS
 }

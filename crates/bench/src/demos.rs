@@ -40,6 +40,7 @@ pub const DEMOS: &[Demo] = &[
     demo!("colour-singlet"),
     demo!("colour-achromat"),
     demo!("autocollimation"),
+    demo!("camera-meniscus"),
 ];
 
 /// The demo the workbench opens when no file is given.

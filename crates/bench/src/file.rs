@@ -344,9 +344,14 @@ pub struct SaveError {
     pub source: std::io::Error,
 }
 
-/// Saves `bench` to `path` atomically: write a temporary file beside it, flush it to disk, then rename it
-/// over the target.
+/// Saves `bench` to `path` atomically (see [`write_atomic`]).
 pub fn save(bench: &Bench, path: &Path) -> Result<(), SaveError> {
+    write_atomic(path, to_text(bench).as_bytes())
+}
+
+/// Writes `bytes` to `path` atomically: a temporary file beside it, flushed to disk, then renamed over the
+/// target, so that a failed write leaves the old file as it was. Every save and export goes through here.
+pub fn write_atomic(path: &Path, bytes: &[u8]) -> Result<(), SaveError> {
     let err = |source| SaveError { path: path.to_path_buf(), source };
     let dir = path.parent().filter(|p| !p.as_os_str().is_empty()).unwrap_or(Path::new("."));
     let file_name = path.file_name().ok_or_else(|| err(std::io::Error::other("no file name")))?;
@@ -354,7 +359,7 @@ pub fn save(bench: &Bench, path: &Path) -> Result<(), SaveError> {
     let result = (|| {
         use std::io::Write;
         let mut f = std::fs::File::create(&tmp)?;
-        f.write_all(to_text(bench).as_bytes())?;
+        f.write_all(bytes)?;
         f.sync_all()?;
         std::fs::rename(&tmp, path)
     })();

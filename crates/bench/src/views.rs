@@ -148,6 +148,8 @@ pub struct SpotView {
     pub plane_label: String,
     /// Airy disk radius at the primary wavelength, mm.
     pub airy_radius_mm: Option<f64>,
+    /// The primary wavelength, nm (each point's spot is drawn about its centroid at this wavelength).
+    pub primary_nm: f64,
     /// One series per point and wavelength.
     pub series: Vec<SpotSeries>,
 }
@@ -390,7 +392,13 @@ impl Views {
         }
         let (plane_at_mm, plane_label) = choose_plane(bench, &compiled, report, &request.plane, best.best_focus_at_mm);
         let airy_radius_mm = report.aberrations.airy_radius_um.map(|u| u * 1e-3);
-        let mut spot = SpotView { plane_at_mm, plane_label, airy_radius_mm, series: Vec::new() };
+        let mut spot = SpotView {
+            plane_at_mm,
+            plane_label,
+            airy_radius_mm,
+            primary_nm: primary.wavelength_nm,
+            series: Vec::new(),
+        };
         let mut fan = FanView { plane_at_mm, series: Vec::new() };
         let mut sweep = SweepView {
             best_focus_at_mm: best.best_focus_at_mm,
@@ -409,7 +417,12 @@ impl Views {
                 .and_then(|a| lumenrail_optics::skew::trace(&primary.seq, a.chief_ray()).ok())
                 .map(|r| r.at_plane(plane_at_mm).1)
         };
-        for point in [Point::OnAxis, Point::OffAxis] {
+        let off_axis = match bench.object {
+            crate::model::ObjectSpec::Point { height_mm, .. } => height_mm != 0.0,
+            crate::model::ObjectSpec::Distant { field_deg, .. } => field_deg != 0.0,
+        };
+        let points: &[Point] = if off_axis { &[Point::OnAxis, Point::OffAxis] } else { &[Point::OnAxis] };
+        for &point in points {
             let reference = chief_reference(point).unwrap_or(0.0);
             for c in &colours {
                 let Some(p) = &c.pupils else { continue };
@@ -452,8 +465,7 @@ impl Views {
                 for s in &v.series {
                     for r in &s.rays {
                         let (px, py) = r.pupil;
-                        let _ =
-                            writeln!(t, "{},{},{:e},{:e},{px},{py}", s.point.word(), s.wavelength_nm, r.x_mm, r.y_mm);
+                        let _ = writeln!(t, "{},{},{},{},{px},{py}", s.point.word(), s.wavelength_nm, r.x_mm, r.y_mm);
                     }
                 }
             }
@@ -463,7 +475,7 @@ impl Views {
                 for s in &v.series {
                     for (name, data) in [("tangential", &s.tangential), ("sagittal", &s.sagittal)] {
                         for (p, e) in data {
-                            let _ = writeln!(t, "{},{},{name},{p},{e:e}", s.point.word(), s.wavelength_nm);
+                            let _ = writeln!(t, "{},{},{name},{p},{e}", s.point.word(), s.wavelength_nm);
                         }
                     }
                 }
@@ -473,14 +485,14 @@ impl Views {
                 t.push_str("point,wavelength_nm,plane_at_mm,rms_radius_mm\n");
                 for s in &v.series {
                     for (z, r) in &s.samples {
-                        let _ = writeln!(t, "{},{},{z},{r:e}", s.point.word(), s.wavelength_nm);
+                        let _ = writeln!(t, "{},{},{z},{r}", s.point.word(), s.wavelength_nm);
                     }
                 }
             }
             ViewKind::Colour => {
                 let v = self.colour.as_ref()?;
                 t.push_str("wavelength_nm,focus_at_mm,lateral_colour_mm\n");
-                let opt = |v: Option<f64>| v.map_or_else(String::new, |v| format!("{v:e}"));
+                let opt = |v: Option<f64>| v.map_or_else(String::new, |v| format!("{v}"));
                 for s in &v.samples {
                     let _ = writeln!(t, "{},{},{}", s.wavelength_nm, opt(s.focus_at_mm), opt(s.lateral_colour_mm));
                 }
@@ -490,8 +502,8 @@ impl Views {
                 let unit = if v.field_label.starts_with("object") { "object_height_mm" } else { "field_angle_deg" };
                 let _ = writeln!(t, "{unit},tangential_focus_mm,sagittal_focus_mm,distortion_percent");
                 for p in &v.points {
-                    let d = p.distortion_percent.map_or_else(String::new, |d| format!("{d:e}"));
-                    let _ = writeln!(t, "{},{:e},{:e},{d}", p.field, p.tangential_mm, p.sagittal_mm);
+                    let d = p.distortion_percent.map_or_else(String::new, |d| format!("{d}"));
+                    let _ = writeln!(t, "{},{},{},{d}", p.field, p.tangential_mm, p.sagittal_mm);
                 }
             }
         }
@@ -569,7 +581,7 @@ fn fan_series(
     reference_y: f64,
 ) -> Option<FanSeries> {
     let half = (FAN_POINTS - 1) / 2;
-    let coords: Vec<f64> = (0..FAN_POINTS).map(|j| (j as f64 - half as f64) / half as f64 * (1.0 - 1e-12)).collect();
+    let coords: Vec<f64> = (0..FAN_POINTS).map(|j| (j as f64 - half as f64) / half as f64).collect();
     let tangential: Vec<PupilSample> = coords.iter().map(|&py| PupilSample { px: 0.0, py, weight: 1.0 }).collect();
     let sagittal: Vec<PupilSample> = coords.iter().map(|&px| PupilSample { px, py: 0.0, weight: 1.0 }).collect();
     let t = trace_grid(seq, object, pupils, point.fraction(), &tangential).ok()?;
@@ -705,7 +717,7 @@ fn field_view(bench: &Bench, seq: &Sequence, object: Object, pupils: &Pupils) ->
             field: if s.fraction < 1e-5 { 0.0 } else { s.fraction * full },
             tangential_mm: s.tangential_mm,
             sagittal_mm: s.sagittal_mm,
-            distortion_percent: s.distortion.map(|d| 100.0 * d),
+            distortion_percent: s.distortion.filter(|_| s.fraction >= 1e-5).map(|d| 100.0 * d),
         })
         .collect();
     (!points.is_empty()).then_some(FieldView { field_label, points })

@@ -192,3 +192,24 @@ fn autocollimation_returns_an_inverted_image_to_the_object_plane() {
     assert!(close(last.magnification.unwrap(), -1.0, 1e-12) && last.real);
     assert!(r.screens[0].rms_spot_um.unwrap() < 1e-9);
 }
+
+#[test]
+fn camera_meniscus_focus_and_image_height_follow_the_lensmaker() {
+    let n = library::find("517642").unwrap().material.index_at(D_LINE_NM).unwrap();
+    let r = report("camera-meniscus");
+    let image = r.images.last().unwrap();
+    // Thick lensmaker (Hecht) for the focus; a distant point 10° off axis images at f tan θ (Gaussian
+    // optics), inverted.
+    assert!(close(image.at_mm.unwrap(), thick_focus(-80.0, -30.0, 4.0, n, 55.0), 1e-12));
+    let f = r.first_order.efl_mm.unwrap();
+    assert!(close(image.height_mm.unwrap(), -f * 10f64.to_radians().tan(), 1e-12));
+    // The front iris is the stop and the entrance pupil (nothing images it in object space).
+    let stop = r.stop.as_ref().unwrap();
+    assert_eq!(stop.part, "Front iris");
+    assert!(close(stop.entrance_pupil_at_mm.unwrap(), 40.0, 1e-12));
+    // Off axis the bundle is astigmatic; both foci fall short of the flat paraxial image plane (the
+    // inward-curving field of a positive singlet, Petzval).
+    let field = r.field.as_ref().unwrap();
+    assert!(field.tangential_focus_mm < 0.0 && field.sagittal_focus_mm < 0.0);
+    assert!(field.astigmatism_mm.abs() > 0.1);
+}

@@ -122,6 +122,11 @@ impl eframe::App for WorkbenchApp {
         self.screenshot_step(&ctx);
     }
 
+    fn persist_egui_memory(&self) -> bool {
+        // A screenshot shows the workbench as a new user sees it, and leaves no layout behind.
+        self.screenshot.is_none()
+    }
+
     fn save(&mut self, storage: &mut dyn eframe::Storage) {
         self.settings.snap_mm = self.workbench.snap_mm;
         self.settings.exaggeration = self.workbench.exaggeration;

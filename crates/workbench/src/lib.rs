@@ -6,6 +6,8 @@
 //! the report and the drawn rays are recomputed from the document, never patched by hand.
 
 pub mod app;
+pub mod picture;
+pub mod plots;
 mod rail;
 pub mod scene;
 mod sheet;
@@ -84,6 +86,8 @@ pub struct Workbench {
     revision: u64,
     /// Recently opened or saved files, newest first (kept by the window's settings).
     pub recent: Vec<PathBuf>,
+    /// The analysis views panel.
+    pub views: plots::ViewsPanel,
 }
 
 /// What a typed path is for.
@@ -91,6 +95,8 @@ pub struct Workbench {
 pub(crate) enum PathPrompt {
     Open,
     SaveAs,
+    /// Export a view: as PNG (`true`) or CSV.
+    Export(lumenrail_bench::views::ViewKind, bool),
 }
 
 impl Workbench {
@@ -118,6 +124,7 @@ impl Workbench {
             path_prompt: None,
             revision: 0,
             recent: Vec::new(),
+            views: plots::ViewsPanel::default(),
         }
     }
 
@@ -133,8 +140,10 @@ impl Workbench {
     /// Replaces the document, keeping the view preferences (snap, exaggeration, recent files).
     fn replace_document(&mut self, next: Workbench) {
         let (snap_mm, exaggeration, recent) = (self.snap_mm, self.exaggeration, std::mem::take(&mut self.recent));
+        let (shown, tab, grid) = (self.views.shown, self.views.tab, self.views.request.grid);
         *self = next;
         (self.snap_mm, self.exaggeration, self.recent) = (snap_mm, exaggeration, recent);
+        (self.views.shown, self.views.tab, self.views.request.grid) = (shown, tab, grid);
     }
 
     /// Opens a bench file; on failure the current bench stays and the status says why.
@@ -322,6 +331,11 @@ impl Workbench {
         egui::Panel::left("sheet").default_size(280.0).show(ui, |ui| {
             egui::ScrollArea::vertical().show(ui, |ui| sheet::sheet_ui(self, ui));
         });
+        if self.views.shown {
+            egui::Panel::bottom("views").resizable(true).default_size(330.0).min_size(200.0).show(ui, |ui| {
+                plots::panel_ui(self, ui);
+            });
+        }
         egui::CentralPanel::default().show(ui, |ui| rail::rail_ui(self, ui));
         self.windows_ui(ui.ctx());
         if self.revision != revision {
@@ -467,6 +481,7 @@ impl Workbench {
                 if ui.button("Fit bench").clicked() {
                     self.view.fit();
                 }
+                ui.checkbox(&mut self.views.shown, "Analysis views (spot, fan, sweep, colour, field)");
                 ui.add(egui::Slider::new(&mut self.exaggeration, 0.0..=200.0).text("height ×").logarithmic(true));
                 ui.label("0 = automatic");
                 ui.horizontal(|ui| {
@@ -509,20 +524,29 @@ impl Workbench {
         });
         let mut close = false;
         if let Some((kind, text)) = &mut self.path_prompt {
-            let title = if *kind == PathPrompt::Open { "Open bench file" } else { "Save bench as" };
+            let (title, what, verb) = match kind {
+                PathPrompt::Open => ("Open bench file", "Path of the .bench.ron file:", "Open"),
+                PathPrompt::SaveAs => ("Save bench as", "Path of the .bench.ron file:", "Save"),
+                PathPrompt::Export(_, true) => ("Export view", "Path of the PNG picture:", "Export"),
+                PathPrompt::Export(_, false) => ("Export view", "Path of the CSV table:", "Export"),
+            };
             let mut go = false;
             egui::Window::new(title).collapsible(false).show(ctx, |ui| {
-                let label = ui.label("Path of the .bench.ron file:");
+                let label = ui.label(what);
                 let r = ui.text_edit_singleline(text).labelled_by(label.id);
                 go = r.lost_focus() && ui.input(|i| i.key_pressed(egui::Key::Enter));
                 ui.horizontal(|ui| {
-                    go |= ui.button(if *kind == PathPrompt::Open { "Open" } else { "Save" }).clicked();
+                    go |= ui.button(verb).clicked();
                     close |= ui.button("Cancel").clicked();
                 });
             });
             if go {
                 let (kind, path) = (*kind, PathBuf::from(text.trim()));
-                close = if kind == PathPrompt::Open { self.open(path) } else { self.save_to(path) };
+                close = match kind {
+                    PathPrompt::Open => self.open(path),
+                    PathPrompt::SaveAs => self.save_to(path),
+                    PathPrompt::Export(view, png) => self.export_view(view, png, &path),
+                };
             }
         }
         if close {
@@ -594,6 +618,16 @@ impl Workbench {
             mm(ab.marginal_lsa_mm),
             mm(ab.chromatic_focal_shift_mm)
         ));
+        if let Some(fd) = &r.field {
+            ui.label(format!(
+                "Off-axis foci from the paraxial image: tangential {}, sagittal {} (astigmatism {})",
+                mm(Some(fd.tangential_focus_mm)),
+                mm(Some(fd.sagittal_focus_mm)),
+                mm(Some(fd.astigmatism_mm))
+            ));
+            let pc = fd.distortion_percent.map_or_else(|| "—".to_string(), |d| format!("{}%", fixed(d, 4)));
+            ui.label(format!("Distortion {pc}, lateral colour {}", mm(fd.lateral_colour_mm)));
+        }
         for s in &r.screens {
             ui.separator();
             let um = |v: Option<f64>| v.map_or_else(|| "—".to_string(), |v| format!("{v:.2} µm"));
