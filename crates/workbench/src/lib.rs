@@ -448,6 +448,13 @@ impl Workbench {
                         self.path.as_ref().map_or_else(|| "bench.bench.ron".into(), |p| p.display().to_string());
                     self.path_prompt = Some((PathPrompt::SaveAs, current));
                 }
+                ui.separator();
+                for (png, what) in [(false, "CSV"), (true, "PNG")] {
+                    if ui.button(format!("Export view {what} by path…")).clicked() {
+                        let kind = self.views.tab;
+                        self.path_prompt = Some((PathPrompt::Export(kind, png), self.export_path(kind, png)));
+                    }
+                }
             });
             ui.menu_button("Edit", |ui| {
                 if ui.add_enabled(!self.history.undo.is_empty(), egui::Button::new("Undo (Ctrl+Z)")).clicked() {

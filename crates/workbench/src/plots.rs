@@ -72,6 +72,12 @@ impl Workbench {
         }
     }
 
+    /// A proposed export path: beside the bench file, named after it and the view.
+    pub(crate) fn export_path(&self, kind: ViewKind, png: bool) -> String {
+        let dir = self.path.as_ref().and_then(|p| p.parent()).map_or_else(PathBuf::new, Path::to_path_buf);
+        dir.join(self.export_name(kind, png)).display().to_string()
+    }
+
     fn export_name(&self, kind: ViewKind, png: bool) -> String {
         let stem = self
             .path
@@ -389,10 +395,7 @@ pub(crate) fn panel_ui(wb: &mut Workbench, ui: &mut egui::Ui) {
             Some(p) => {
                 wb.export_view(kind, png, &p);
             }
-            None => {
-                let dir = wb.path.as_ref().and_then(|p| p.parent()).map_or_else(PathBuf::new, Path::to_path_buf);
-                wb.path_prompt = Some((PathPrompt::Export(kind, png), dir.join(name).display().to_string()));
-            }
+            None => wb.path_prompt = Some((PathPrompt::Export(kind, png), wb.export_path(kind, png))),
         }
     }
     let kind = wb.views.tab;

@@ -1,0 +1,125 @@
+//! The analysis views used as a person uses them (egui_kittest, no display): switch views, pick the plane,
+//! drag a part and see the views follow in the same frame, export CSV and PNG.
+
+use egui::Key;
+use egui_kittest::Harness;
+use egui_kittest::kittest::Queryable as _;
+use lumenrail_bench::report::{Report, fixed};
+use lumenrail_bench::views::{Point, ViewKind, Views};
+use lumenrail_workbench::Workbench;
+
+fn harness(demo: &str) -> Harness<'static, Workbench> {
+    let mut h = Harness::builder()
+        .with_size(egui::vec2(1400.0, 900.0))
+        .build_ui_state(|ui, wb: &mut Workbench| wb.ui(ui), Workbench::demo(demo));
+    h.run();
+    h
+}
+
+/// The on-axis primary RMS radius as the spot view's figure line shows it, µm with three decimals.
+fn shown_on_axis_rms(h: &Harness<'_, Workbench>) -> String {
+    h.get_by_label_contains("on-axis 587.6 nm: RMS").value().unwrap_or_default()
+}
+
+fn expected_on_axis_rms(wb: &Workbench) -> String {
+    let views = Views::of(&wb.bench, &Report::of(&wb.bench), &wb.views.request);
+    let s = views
+        .spot
+        .unwrap()
+        .series
+        .into_iter()
+        .find(|s| s.point == Point::OnAxis && (s.wavelength_nm - 587.5618).abs() < 1e-9);
+    format!("RMS {} µm", fixed(s.unwrap().rms_mm * 1e3, 3))
+}
+
+#[test]
+fn each_view_tab_shows_its_plot_and_figures() {
+    let mut h = harness("camera-meniscus");
+    assert_eq!(h.state().views.tab, ViewKind::Spot);
+    assert!(shown_on_axis_rms(&h).contains(&expected_on_axis_rms(h.state())));
+    for (tab, text) in [
+        ("fan", "Transverse ray error"),
+        ("sweep", "RMS spot radius through focus"),
+        ("colour", "where every material of the bench is valid"),
+        ("field", "Across the field"),
+    ] {
+        h.get_by_label(tab).click();
+        h.run();
+        assert_eq!(h.state().views.tab.word(), tab);
+        assert!(h.query_by_label_contains(text).is_some(), "{tab}");
+    }
+    // The sweep's least on-axis RMS is the readout's best focus.
+    h.get_by_label("sweep").click();
+    h.run();
+    let best = Report::of(&h.state().bench).screens[0].best_focus_at_mm.unwrap();
+    assert!(h.query_by_label_contains(&format!("at {} mm", fixed(best, 4))).is_some());
+}
+
+#[test]
+fn dragging_the_film_plane_updates_the_spot_view_in_the_same_frame() {
+    let mut h = harness("camera-meniscus");
+    let before = shown_on_axis_rms(&h);
+    let start = h.get_by_label("Film plane").rect().center();
+    h.drag_at(start);
+    h.run();
+    for k in 1..=4 {
+        h.hover_at(start + egui::vec2(-10.0 * k as f32, 0.0));
+        h.run();
+        // Mid-drag, every frame's spot figures belong to the layout on screen.
+        assert!(shown_on_axis_rms(&h).contains(&expected_on_axis_rms(h.state())), "step {k}");
+    }
+    h.drop_at(start + egui::vec2(-40.0, 0.0));
+    h.run();
+    assert_ne!(shown_on_axis_rms(&h), before, "the film plane moved");
+    assert!(shown_on_axis_rms(&h).contains(&expected_on_axis_rms(h.state())));
+}
+
+#[test]
+fn choosing_best_focus_as_the_plane_moves_the_spot_there() {
+    let mut h = harness("camera-meniscus");
+    h.get_by_label("plane").click();
+    h.run();
+    h.get_by_label("best focus").click();
+    h.run();
+    assert!(h.query_by_label_contains("At best focus").is_some());
+    // At best focus the on-axis RMS is the report's best-focus figure.
+    let best = Report::of(&h.state().bench).screens[0].best_rms_spot_um.unwrap();
+    assert!(shown_on_axis_rms(&h).contains(&format!("RMS {} µm", fixed(best, 3))), "{}", shown_on_axis_rms(&h));
+}
+
+#[test]
+fn views_export_by_path_as_csv_and_png() {
+    let dir = std::env::temp_dir().join(format!("lumenrail-views-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).unwrap();
+    let mut h = harness("camera-meniscus");
+    let csv = dir.join("spot.csv");
+    h.get_by_label("File").click();
+    h.run();
+    h.get_by_label("Export view CSV by path…").click();
+    h.run();
+    let field = "Path of the CSV table:";
+    h.get_by_label(field).focus();
+    h.run();
+    h.key_press_modifiers(egui::Modifiers::COMMAND, Key::A);
+    h.run();
+    h.get_by_label(field).type_text(csv.to_str().unwrap());
+    h.run();
+    h.get_by_label("Export").click();
+    h.run();
+    let text = std::fs::read_to_string(&csv).unwrap_or_else(|e| panic!("{e}: {}", h.state().status));
+    assert!(text.starts_with("point,wavelength_nm,x_mm,y_mm"));
+    // Three wavelengths, two points, a 127-ray hexapolar grid each, none vignetted.
+    assert_eq!(text.lines().count(), 1 + 6 * 127);
+
+    h.get_by_label("field").click();
+    h.run();
+    let png = dir.join("field.png");
+    assert!(h.state_mut().export_view(ViewKind::Field, true, &png), "{}", h.state().status);
+    let img = image::open(&png).unwrap();
+    assert_eq!((img.width(), img.height()), (1800, 960));
+    // A failed export (a directory that does not exist) says so and leaves no file.
+    let bad = dir.join("no-such-dir").join("x.csv");
+    assert!(!h.state_mut().export_view(ViewKind::Spot, false, &bad));
+    assert!(h.state().status.contains("x.csv"), "{}", h.state().status);
+    let _ = std::fs::remove_dir_all(&dir);
+}
