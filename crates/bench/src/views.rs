@@ -114,6 +114,8 @@ impl Default for ViewRequest {
 pub struct SpotRay {
     /// Normalised pupil coordinates (px, py) at the real stop.
     pub pupil: (f64, f64),
+    /// The sample's share of the pupil's area in its grid (quadrature weights for the Gauss polar grid).
+    pub weight: f64,
     /// Intercept x in the plane, mm from the axis.
     pub x_mm: f64,
     /// Intercept y in the plane, mm from the axis.
@@ -461,11 +463,19 @@ impl Views {
         match kind {
             ViewKind::Spot => {
                 let v = self.spot.as_ref()?;
-                t.push_str("point,wavelength_nm,x_mm,y_mm,pupil_x,pupil_y\n");
+                t.push_str("point,wavelength_nm,x_mm,y_mm,pupil_x,pupil_y,weight\n");
                 for s in &v.series {
                     for r in &s.rays {
                         let (px, py) = r.pupil;
-                        let _ = writeln!(t, "{},{},{},{},{px},{py}", s.point.word(), s.wavelength_nm, r.x_mm, r.y_mm);
+                        let _ = writeln!(
+                            t,
+                            "{},{},{},{},{px},{py},{}",
+                            s.point.word(),
+                            s.wavelength_nm,
+                            r.x_mm,
+                            r.y_mm,
+                            r.weight
+                        );
                     }
                 }
             }
@@ -550,7 +560,7 @@ fn spot_series(
         .iter()
         .map(|(p, r)| {
             let (x_mm, y_mm) = r.at_plane(z);
-            SpotRay { pupil: (p.px, p.py), x_mm, y_mm }
+            SpotRay { pupil: (p.px, p.py), weight: p.weight, x_mm, y_mm }
         })
         .collect();
     let (centroid, rms_mm) = match point {
