@@ -1,5 +1,5 @@
 //! The per-frame work while a part is dragged: the report and the traced scene recomputed from the bench,
-//! for every demo bench.
+//! the five analysis views recomputed, for every demo bench; and whole headless frames.
 #![allow(missing_docs)] // criterion_group! generates undocumented items.
 
 use criterion::{Criterion, criterion_group, criterion_main};
@@ -26,11 +26,32 @@ fn drag_recompute(c: &mut Criterion) {
     g.finish();
 }
 
+/// The analysis views (spot, fan, sweep, colour, field, every point and wavelength) recomputed for a
+/// moved part, as the views panel does each frame of a drag.
+fn views_recompute(c: &mut Criterion) {
+    use lumenrail_bench::views::{ViewRequest, Views};
+    let mut g = c.benchmark_group("views_recompute");
+    for d in DEMOS {
+        let mut bench = lumenrail_bench::file::parse(d.name, d.text).unwrap().bench;
+        let request = ViewRequest::default();
+        g.bench_function(d.name, |b| {
+            let mut k = 0u32;
+            b.iter(|| {
+                k = k.wrapping_add(1);
+                bench.parts[0].at_mm += if k.is_multiple_of(2) { 0.01 } else { -0.01 };
+                let report = Report::of(&bench);
+                black_box(Views::of(&bench, &report, &request))
+            })
+        });
+    }
+    g.finish();
+}
+
 /// A whole frame of the workbench (layout, rail drawing, readout, tessellation-free CPU work of egui) while
 /// the lens is moved each frame, headless.
 fn whole_frame(c: &mut Criterion) {
     let mut g = c.benchmark_group("whole_frame");
-    for name in ["one-lens-screen", "colour-achromat", "unit-relay"] {
+    for name in ["one-lens-screen", "colour-achromat", "unit-relay", "camera-meniscus"] {
         let mut h = egui_kittest::Harness::builder()
             .with_size(egui::vec2(1400.0, 860.0))
             .build_ui_state(|ui, wb: &mut Workbench| wb.ui(ui), Workbench::demo(name));
@@ -48,5 +69,5 @@ fn whole_frame(c: &mut Criterion) {
     g.finish();
 }
 
-criterion_group!(benches, drag_recompute, whole_frame);
+criterion_group!(benches, drag_recompute, views_recompute, whole_frame);
 criterion_main!(benches);
