@@ -213,7 +213,8 @@ pub struct ColourSample {
     pub wavelength_nm: f64,
     /// Final paraxial image position.
     pub focus_at_mm: Option<f64>,
-    /// Off-axis real chief ray height at the view plane less that at the primary wavelength, mm.
+    /// Off-axis real chief ray height at the primary wavelength's paraxial image plane, less that at the
+    /// primary wavelength, mm.
     pub lateral_colour_mm: Option<f64>,
 }
 
@@ -282,8 +283,8 @@ const FIELD_POINTS: usize = 11;
 type Quadrature = (Vec<(PupilSample, SkewRay)>, SkewRay);
 
 /// Where the off-axis point's figures come from: Gauss quadrature over the pupil, doubled from 6 rings by
-/// 12 arms until the RMS radius settles to 1e-9 (at most 24 × 48).
-fn off_axis_quadrature(seq: &Sequence, object: Object, pupils: &Pupils) -> Option<Quadrature> {
+/// 12 arms until the RMS radius at the plane `z` settles to 1e-9 (at most 24 × 48).
+fn off_axis_quadrature(seq: &Sequence, object: Object, pupils: &Pupils, z: f64) -> Option<Quadrature> {
     let mut last: Option<(Quadrature, f64)> = None;
     let mut rings = 6;
     while rings <= 24 {
@@ -292,7 +293,6 @@ fn off_axis_quadrature(seq: &Sequence, object: Object, pupils: &Pupils) -> Optio
         if traced.rays.is_empty() {
             return None;
         }
-        let z = traced.chief.z_mm + 1.0;
         let rms = weighted_spot(&traced.rays, z).2;
         if let Some((_, prev)) = &last
             && (rms - prev).abs() <= 1e-9 * rms.max(*prev) + 1e-15
@@ -431,7 +431,7 @@ impl Views {
                 let w = c.wavelength_nm;
                 let quad = match point {
                     Point::OnAxis => None,
-                    Point::OffAxis => off_axis_quadrature(&c.seq, object, p),
+                    Point::OffAxis => off_axis_quadrature(&c.seq, object, p, plane_at_mm),
                 };
                 if let Some(mut s) = spot_series(&c.seq, object, p, point, &display_grid, plane_at_mm, quad.as_ref()) {
                     // The on-axis figures come from the rotationally symmetric quadrature the report uses.

@@ -16,11 +16,13 @@ pub struct Settings {
     pub exaggeration: f32,
     /// Recently opened or saved files, newest first.
     pub recent: Vec<PathBuf>,
+    /// Whether the analysis views panel is shown.
+    pub views_shown: bool,
 }
 
 impl Default for Settings {
     fn default() -> Settings {
-        Settings { snap_mm: 1.0, exaggeration: 0.0, recent: Vec::new() }
+        Settings { snap_mm: 1.0, exaggeration: 0.0, recent: Vec::new(), views_shown: true }
     }
 }
 
@@ -51,9 +53,12 @@ impl WorkbenchApp {
         mut workbench: Workbench,
         screenshot: Option<PathBuf>,
     ) -> WorkbenchApp {
-        let settings: Settings = cc.storage.and_then(|s| eframe::get_value(s, eframe::APP_KEY)).unwrap_or_default();
+        // A screenshot shows what a new user sees, whatever this computer's stored settings are.
+        let stored = cc.storage.and_then(|s| eframe::get_value(s, eframe::APP_KEY)).filter(|_| screenshot.is_none());
+        let settings: Settings = stored.unwrap_or_default();
         workbench.snap_mm = settings.snap_mm;
         workbench.exaggeration = settings.exaggeration;
+        workbench.views.shown = settings.views_shown;
         WorkbenchApp {
             workbench,
             settings,
@@ -130,6 +135,7 @@ impl eframe::App for WorkbenchApp {
     fn save(&mut self, storage: &mut dyn eframe::Storage) {
         self.settings.snap_mm = self.workbench.snap_mm;
         self.settings.exaggeration = self.workbench.exaggeration;
+        self.settings.views_shown = self.workbench.views.shown;
         eframe::set_value(storage, eframe::APP_KEY, &self.settings);
     }
 }

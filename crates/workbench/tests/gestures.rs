@@ -278,13 +278,42 @@ fn random_edits_never_break_the_workbench() {
             let i = (next() * n as f64) as usize % n;
             wb.apply(lumenrail_workbench::Edit::Remove(i), None);
         }
+        // Every analysis view is drawn in turn while the bench is being mangled.
+        wb.views.tab = lumenrail_bench::views::ViewKind::ALL[step % 5];
         h.run();
         let text = final_image_text_or_empty(&h);
         assert!(!text.contains("NaN") && !text.contains("inf"), "step {step}: {text}");
+        assert!(h.query_by_label_contains("NaN").is_none(), "step {step}: a NaN on screen");
+        let views = h.state_mut().views().clone();
+        assert!(views_are_finite(&views), "step {step}: {views:?}");
         for ray in &h.state().scene.rays {
             assert!(ray.points.iter().all(|(z, y)| z.is_finite() && y.is_finite()), "step {step}");
         }
     }
+}
+
+/// Whether every number of every view is finite (a `None` is allowed: it is shown as a dash or not drawn).
+fn views_are_finite(v: &lumenrail_bench::views::Views) -> bool {
+    let ok = |x: f64| x.is_finite();
+    v.spot.iter().flat_map(|s| &s.series).all(|s| {
+        s.rays.iter().all(|r| ok(r.x_mm) && ok(r.y_mm)) && ok(s.rms_mm) && ok(s.geometric_mm) && ok(s.centroid.0)
+    }) && v
+        .fan
+        .iter()
+        .flat_map(|f| &f.series)
+        .all(|s| s.tangential.iter().chain(&s.sagittal).all(|(p, e)| ok(*p) && ok(*e)))
+        && v.sweep
+            .iter()
+            .flat_map(|s| &s.series)
+            .all(|s| s.samples.iter().all(|(z, r)| ok(*z) && ok(*r)) && ok(s.best.1))
+        && v.colour
+            .iter()
+            .flat_map(|c| &c.samples)
+            .all(|c| c.focus_at_mm.is_none_or(ok) && c.lateral_colour_mm.is_none_or(ok))
+        && v.field
+            .iter()
+            .flat_map(|f| &f.points)
+            .all(|p| ok(p.tangential_mm) && ok(p.sagittal_mm) && p.distortion_percent.is_none_or(ok))
 }
 
 fn final_image_text_or_empty(h: &Harness<'_, Workbench>) -> String {
