@@ -7,6 +7,7 @@ use crate::{PathPrompt, Workbench};
 use egui::Color32;
 use egui_plot::{HLine, Legend, Line, LineStyle, Plot, PlotPoints, Points, Span, VLine};
 use lumenrail_bench::file::write_atomic;
+use lumenrail_bench::model::PartKind;
 use lumenrail_bench::report::fixed;
 use lumenrail_bench::views::{Plane, Point, ViewKind, ViewRequest, Views};
 use lumenrail_optics::sampling::Grid;
@@ -39,13 +40,21 @@ pub const GRIDS: [(&str, Grid); 3] = [
 ];
 
 impl Workbench {
-    /// The views of the current bench for the panel's request, recomputed only when either changed.
+    /// The views of the current bench for the panel's request, recomputed only when either changed. With
+    /// the automatic plane, a selected screen is the plane the spot and fan views look at.
     pub fn views(&mut self) -> &Views {
-        let fresh =
-            self.views.cache.as_ref().is_some_and(|(rev, req, _)| *rev == self.revision && *req == self.views.request);
+        let mut request = self.views.request.clone();
+        if request.plane == Plane::Auto
+            && let Some(part) = self.selected.and_then(|i| self.bench.parts.get(i))
+            && matches!(part.kind, PartKind::Screen { .. })
+            && self.report.screens.iter().any(|s| s.part == part.name && s.rms_spot_um.is_some())
+        {
+            request.plane = Plane::Screen(part.name.clone());
+        }
+        let fresh = self.views.cache.as_ref().is_some_and(|(rev, req, _)| *rev == self.revision && *req == request);
         if !fresh {
-            let v = Views::of(&self.bench, &self.report, &self.views.request);
-            self.views.cache = Some((self.revision, self.views.request.clone(), v));
+            let v = Views::of(&self.bench, &self.report, &request);
+            self.views.cache = Some((self.revision, request, v));
         }
         &self.views.cache.as_ref().expect("just filled").2
     }
@@ -288,6 +297,9 @@ fn colour_ui(ui: &mut egui::Ui, views: &Views, interactive: bool, height: f32) {
         fixed(v.range_nm.1, 0),
         fixed(v.primary_nm, 1)
     ));
+    if v.samples.iter().all(|s| s.focus_at_mm.is_none()) {
+        ui.label("The final image is at infinity at every wavelength, so there is no focus to plot.");
+    }
     let marks: Vec<(f64, Color32)> = v.bench_nm.iter().map(|&w| (w, series_colour(ui, w))).collect();
     ui.columns(2, |cols| {
         for (k, col) in cols.iter_mut().enumerate() {

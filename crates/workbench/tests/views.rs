@@ -123,3 +123,20 @@ fn views_export_by_path_as_csv_and_png() {
     assert!(h.state().status.contains("x.csv"), "{}", h.state().status);
     let _ = std::fs::remove_dir_all(&dir);
 }
+
+#[test]
+fn clicking_a_screen_points_the_spot_view_at_it() {
+    let mut h = harness("camera-meniscus");
+    assert!(h.query_by_label_contains("At screen \"Film plane\"").is_some());
+    let mut second = h.state().new_part("screen");
+    second.name = "Ground glass".into();
+    second.at_mm = 170.0;
+    h.state_mut().apply(lumenrail_workbench::Edit::Add(second), None);
+    h.state_mut().selected = None;
+    h.run();
+    // Automatic: the first screen beyond the lens.
+    assert!(h.query_by_label_contains("At screen \"Film plane\"").is_some());
+    h.get_by_label("Ground glass").click();
+    h.run();
+    assert!(h.query_by_label_contains("At screen \"Ground glass\" (170.000 mm)").is_some());
+}
