@@ -172,6 +172,9 @@ fn export(
         return ExitCode::from(1);
     }
     let views = Views::of(bench, &report, &ViewRequest { plane, grid });
+    for n in &views.notes {
+        eprintln!("{}: {n}", path.display());
+    }
     let mut outputs: Vec<(&Path, Option<Vec<u8>>)> = Vec::new();
     if let Some(p) = csv {
         outputs.push((p, views.csv(kind).map(String::into_bytes)));
@@ -183,7 +186,7 @@ fn export(
     }
     for (out, bytes) in outputs {
         let Some(bytes) = bytes else {
-            eprintln!("{}: the {view} view has nothing to show: {}", path.display(), views.notes.join("; "));
+            eprintln!("{}: the {view} view has nothing to show", path.display());
             return ExitCode::from(1);
         };
         if let Err(e) = file::write_atomic(out, &bytes) {

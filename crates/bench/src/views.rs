@@ -450,10 +450,27 @@ impl Views {
                 }
             }
         }
+        for &point in points {
+            if !spot.series.iter().any(|s| s.point == point) {
+                views
+                    .notes
+                    .push(format!("no ray from the {} point can be aimed through the stop to the image", point.word()));
+            }
+        }
         views.spot = Some(spot);
         views.fan = Some(fan);
         views.sweep = Some(sweep);
         views.field = field_view(bench, &primary.seq, object, pupils);
+        match &views.field {
+            None if off_axis => {
+                views.notes.push("no field figures: the off-axis bundles cannot be traced to their foci".into())
+            }
+            Some(f) if f.points.len() < FIELD_POINTS => views.notes.push(format!(
+                "the field view has {} of its {FIELD_POINTS} points: the bundles of the others do not get through",
+                f.points.len()
+            )),
+            _ => {}
+        }
         views
     }
 
