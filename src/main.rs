@@ -105,15 +105,24 @@ fn print_diagnostics(ds: &[file::Diagnostic]) {
     }
 }
 
-fn report(path: &std::path::Path, json: bool) -> ExitCode {
-    let loaded = match file::load(path) {
-        Ok(l) => l,
+/// Loads a bench, printing its warnings, or its errors and `None`.
+fn load(path: &Path) -> Option<file::Loaded> {
+    match file::load(path) {
+        Ok(l) => {
+            print_diagnostics(&l.warnings);
+            Some(l)
+        }
         Err(e) => {
             print_diagnostics(&e.diagnostics);
-            return ExitCode::from(2);
+            None
         }
+    }
+}
+
+fn report(path: &Path, json: bool) -> ExitCode {
+    let Some(loaded) = load(path) else {
+        return ExitCode::from(2);
     };
-    print_diagnostics(&loaded.warnings);
     let report = Report::of(&loaded.bench);
     let text = if json { report.to_json() } else { report.to_text() };
     let mut out = std::io::stdout().lock();
@@ -140,14 +149,9 @@ fn export(
         return ExitCode::from(2);
     }
     let kind = ViewKind::from_word(view).expect("clap checked the view's name");
-    let loaded = match file::load(path) {
-        Ok(l) => l,
-        Err(e) => {
-            print_diagnostics(&e.diagnostics);
-            return ExitCode::from(2);
-        }
+    let Some(loaded) = load(path) else {
+        return ExitCode::from(2);
     };
-    print_diagnostics(&loaded.warnings);
     let bench = &loaded.bench;
     let plane = match plane {
         None => Plane::Auto,
@@ -198,7 +202,7 @@ fn export(
     ExitCode::SUCCESS
 }
 
-fn check(path: &std::path::Path) -> ExitCode {
+fn check(path: &Path) -> ExitCode {
     match file::load(path) {
         Ok(l) => {
             print_diagnostics(&l.warnings);

@@ -7,10 +7,7 @@
 
 use crate::simd::Lane;
 use crate::system::{Kind, Sequence, Step};
-use crate::trace::{
-    CONIC, FATE_BLOCKED, FLAT, IDEAL, REFLECT, REFRACT, Ray, RayError, SPHERE, StepLanes, fate_error, hit,
-    ideal_lens_path, kernel_form,
-};
+use crate::trace::{FATE_BLOCKED, IDEAL, Ray, RayError, StepLanes, fate_error, hit, ideal_lens_path, with_kernel_form};
 
 /// Many meridional rays, one array per coordinate.
 #[derive(Debug, Clone, Default, PartialEq)]
@@ -142,17 +139,7 @@ fn trace_blocks<V: Lane>(seq: &Sequence, batch: &mut RayBatch) {
         };
         for (index, step) in seq.steps.iter().enumerate() {
             let code = 4.0 * (index as f64 + 1.0);
-            match kernel_form(step) {
-                (FLAT, REFRACT) => surface_loop::<V, FLAT, REFRACT>(step, code, &mut lanes),
-                (FLAT, REFLECT) => surface_loop::<V, FLAT, REFLECT>(step, code, &mut lanes),
-                (FLAT, _) => surface_loop::<V, FLAT, IDEAL>(step, code, &mut lanes),
-                (SPHERE, REFRACT) => surface_loop::<V, SPHERE, REFRACT>(step, code, &mut lanes),
-                (SPHERE, REFLECT) => surface_loop::<V, SPHERE, REFLECT>(step, code, &mut lanes),
-                (SPHERE, _) => surface_loop::<V, SPHERE, IDEAL>(step, code, &mut lanes),
-                (_, REFRACT) => surface_loop::<V, CONIC, REFRACT>(step, code, &mut lanes),
-                (_, REFLECT) => surface_loop::<V, CONIC, REFLECT>(step, code, &mut lanes),
-                (_, _) => surface_loop::<V, CONIC, IDEAL>(step, code, &mut lanes),
-            }
+            with_kernel_form!(step, surface_loop::<V>(step, code, &mut lanes));
         }
         start = end;
     }

@@ -8,8 +8,7 @@ use crate::simd::Lane;
 use crate::skew::SkewRay;
 use crate::system::{Sequence, Step};
 use crate::trace::{
-    CONIC, FATE_BLOCKED, FATE_MISSED, FATE_TIR, FLAT, IDEAL, REFLECT, REFRACT, RayError, SPHERE, StepLanes, fate_error,
-    kernel_form,
+    FATE_BLOCKED, FLAT, REFLECT, REFRACT, RayError, SPHERE, StepLanes, fate_code, fate_error, with_kernel_form,
 };
 
 /// One 3-D ray (or lane vector of rays) meeting one surface, computed without branching.
@@ -40,9 +39,7 @@ impl<V: Lane> Hit3<V> {
     /// The fate code, as for the meridional kernel: missed before blocked before total reflection.
     #[inline(always)]
     pub fn fate(&self) -> V {
-        V::only(!self.met, V::splat(FATE_MISSED))
-            .either(V::only(self.met & !self.inside, V::splat(FATE_BLOCKED)))
-            .either(V::only(self.met & self.inside & self.tir, V::splat(FATE_TIR)))
+        fate_code(self.met, self.inside, self.tir)
     }
 }
 
@@ -120,18 +117,7 @@ pub(crate) fn hit3<V: Lane, const SHAPE: u8, const ACTION: u8>(s: &StepLanes<V>,
 /// [`hit3`] for one ray through any surface, choosing the compiled form at run time.
 pub(crate) fn hit3_any(step: &Step, ray: [f64; 6]) -> Hit3<f64> {
     let s = StepLanes::<f64>::new(step);
-    let n = step.n_before;
-    match kernel_form(step) {
-        (FLAT, REFRACT) => hit3::<f64, FLAT, REFRACT>(&s, n, ray),
-        (FLAT, REFLECT) => hit3::<f64, FLAT, REFLECT>(&s, n, ray),
-        (FLAT, _) => hit3::<f64, FLAT, IDEAL>(&s, n, ray),
-        (SPHERE, REFRACT) => hit3::<f64, SPHERE, REFRACT>(&s, n, ray),
-        (SPHERE, REFLECT) => hit3::<f64, SPHERE, REFLECT>(&s, n, ray),
-        (SPHERE, _) => hit3::<f64, SPHERE, IDEAL>(&s, n, ray),
-        (_, REFRACT) => hit3::<f64, CONIC, REFRACT>(&s, n, ray),
-        (_, REFLECT) => hit3::<f64, CONIC, REFLECT>(&s, n, ray),
-        (_, _) => hit3::<f64, CONIC, IDEAL>(&s, n, ray),
-    }
+    with_kernel_form!(step, hit3::<f64>(&s, step.n_before, ray))
 }
 
 /// Many skew rays, one array per coordinate.
@@ -266,17 +252,7 @@ fn trace_blocks<V: Lane>(seq: &Sequence, batch: &mut SkewBatch) {
         ];
         for (index, step) in seq.steps.iter().enumerate() {
             let code = 4.0 * (index as f64 + 1.0);
-            match kernel_form(step) {
-                (FLAT, REFRACT) => surface_loop::<V, FLAT, REFRACT>(step, code, &mut b),
-                (FLAT, REFLECT) => surface_loop::<V, FLAT, REFLECT>(step, code, &mut b),
-                (FLAT, _) => surface_loop::<V, FLAT, IDEAL>(step, code, &mut b),
-                (SPHERE, REFRACT) => surface_loop::<V, SPHERE, REFRACT>(step, code, &mut b),
-                (SPHERE, REFLECT) => surface_loop::<V, SPHERE, REFLECT>(step, code, &mut b),
-                (SPHERE, _) => surface_loop::<V, SPHERE, IDEAL>(step, code, &mut b),
-                (_, REFRACT) => surface_loop::<V, CONIC, REFRACT>(step, code, &mut b),
-                (_, REFLECT) => surface_loop::<V, CONIC, REFLECT>(step, code, &mut b),
-                (_, _) => surface_loop::<V, CONIC, IDEAL>(step, code, &mut b),
-            }
+            with_kernel_form!(step, surface_loop::<V>(step, code, &mut b));
         }
         start = end;
     }

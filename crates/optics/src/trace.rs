@@ -139,10 +139,16 @@ impl<V: Lane> Hit<V> {
     /// lane width): missed before blocked before total internal reflection.
     #[inline(always)]
     pub fn fate(&self) -> V {
-        V::only(!self.met, V::splat(FATE_MISSED))
-            .either(V::only(self.met & !self.inside, V::splat(FATE_BLOCKED)))
-            .either(V::only(self.met & self.inside & self.tir, V::splat(FATE_TIR)))
+        fate_code(self.met, self.inside, self.tir)
     }
+}
+
+/// The fate code from the three masks of a hit: missed before blocked before total internal reflection.
+#[inline(always)]
+pub(crate) fn fate_code<V: Lane>(met: V::Mask, inside: V::Mask, tir: V::Mask) -> V {
+    V::only(!met, V::splat(FATE_MISSED))
+        .either(V::only(met & !inside, V::splat(FATE_BLOCKED)))
+        .either(V::only(met & inside & tir, V::splat(FATE_TIR)))
 }
 
 pub(crate) const FATE_MISSED: f64 = 1.0;
@@ -204,6 +210,26 @@ pub(crate) fn kernel_form(step: &Step) -> (u8, u8) {
     };
     (shape, action)
 }
+
+/// Calls `$f::<$V, SHAPE, ACTION>($args)` with the compiled form of the kernel that `$step` needs, so that
+/// each loop is compiled once per (shape, action) and chosen once per surface.
+macro_rules! with_kernel_form {
+    ($step:expr, $f:ident::<$V:ty>($($arg:expr),* $(,)?)) => {{
+        use $crate::trace::{CONIC, FLAT, IDEAL, REFLECT, REFRACT, SPHERE};
+        match $crate::trace::kernel_form($step) {
+            (FLAT, REFRACT) => $f::<$V, FLAT, REFRACT>($($arg),*),
+            (FLAT, REFLECT) => $f::<$V, FLAT, REFLECT>($($arg),*),
+            (FLAT, _) => $f::<$V, FLAT, IDEAL>($($arg),*),
+            (SPHERE, REFRACT) => $f::<$V, SPHERE, REFRACT>($($arg),*),
+            (SPHERE, REFLECT) => $f::<$V, SPHERE, REFLECT>($($arg),*),
+            (SPHERE, _) => $f::<$V, SPHERE, IDEAL>($($arg),*),
+            (_, REFRACT) => $f::<$V, CONIC, REFRACT>($($arg),*),
+            (_, REFLECT) => $f::<$V, CONIC, REFLECT>($($arg),*),
+            (_, _) => $f::<$V, CONIC, IDEAL>($($arg),*),
+        }
+    }};
+}
+pub(crate) use with_kernel_form;
 
 /// One ray meeting one surface: intersect, check the clear aperture, then refract, reflect or deflect.
 ///
@@ -286,17 +312,7 @@ pub(crate) fn hit<V: Lane, const SHAPE: u8, const ACTION: u8>(k: &StepLanes<V>, 
 #[inline]
 pub(crate) fn hit_any(step: &Step, y: f64, z: f64, m: f64, l: f64) -> Hit<f64> {
     let k = StepLanes::<f64>::new(step);
-    match kernel_form(step) {
-        (FLAT, REFRACT) => hit::<f64, FLAT, REFRACT>(&k, y, z, m, l),
-        (FLAT, REFLECT) => hit::<f64, FLAT, REFLECT>(&k, y, z, m, l),
-        (FLAT, _) => hit::<f64, FLAT, IDEAL>(&k, y, z, m, l),
-        (SPHERE, REFRACT) => hit::<f64, SPHERE, REFRACT>(&k, y, z, m, l),
-        (SPHERE, REFLECT) => hit::<f64, SPHERE, REFLECT>(&k, y, z, m, l),
-        (SPHERE, _) => hit::<f64, SPHERE, IDEAL>(&k, y, z, m, l),
-        (_, REFRACT) => hit::<f64, CONIC, REFRACT>(&k, y, z, m, l),
-        (_, REFLECT) => hit::<f64, CONIC, REFLECT>(&k, y, z, m, l),
-        (_, _) => hit::<f64, CONIC, IDEAL>(&k, y, z, m, l),
-    }
+    with_kernel_form!(step, hit::<f64>(&k, y, z, m, l))
 }
 
 /// The typed error for a fate code.
