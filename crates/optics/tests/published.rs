@@ -503,3 +503,34 @@ fn field_curves_obey_coddington() {
     // A positive sphere's field curves inward, the tangential more (Petzval and astigmatism).
     assert!(sample.tangential_mm < sample.sagittal_mm && sample.sagittal_mm < 0.0);
 }
+
+/// A refracting sphere with the stop at its centre of curvature: every chief ray passes through the centre
+/// along a normal, so each off-axis bundle sees the same surface as the axial one, about its own chief ray.
+/// Hence no astigmatism and no distortion, and the image lies on a sphere about the centre, the axial
+/// image's distance away (the concentric case; Kingslake, *Lens Design Fundamentals*, recalled from
+/// memory). Concave from air into n = 1.5, R = −50 mm: a distant object images 150 mm before the vertex,
+/// 100 mm before the centre, so the focus at field angle θ lies 100(1 − cos θ) mm beyond the paraxial plane.
+#[test]
+fn a_sphere_with_its_stop_at_the_centre_has_no_astigmatism_or_distortion() {
+    use lumenrail_optics::field::{field_curves, field_sample};
+    use lumenrail_optics::paraxial::{Object, images};
+    use lumenrail_optics::pupil::Pupils;
+    let s = seq(vec![
+        Surface::aperture(-50.0, 2.0),
+        Surface::refracting(0.0, Shape::sphere(-50.0), Material::Constant(1.5)).with_semi_aperture(40.0),
+    ]);
+    let theta = 20.0f64;
+    let object = Object::Distant { field_deg: theta, beam_diameter_mm: 60.0 };
+    let pupils = Pupils::find(&s, &object).unwrap();
+    let image = *images(&s, &object).last().unwrap();
+    let (at, height) = (image.at_mm.unwrap(), image.height_mm.unwrap());
+    assert!((at + 150.0).abs() < 1e-12, "{at}");
+    let sample = field_sample(&s, object, &pupils, 1.0, at, height).unwrap();
+    let want = 100.0 * (1.0 - theta.to_radians().cos());
+    assert!((sample.tangential_mm - want).abs() < 1e-9, "{} vs {want}", sample.tangential_mm);
+    assert!((sample.sagittal_mm - want).abs() < 1e-9, "{} vs {want}", sample.sagittal_mm);
+    assert!(sample.distortion.unwrap().abs() < 1e-12, "{:?}", sample.distortion);
+    for p in field_curves(&s, object, &pupils, 6) {
+        assert!((p.tangential_mm - p.sagittal_mm).abs() < 1e-9, "{p:?}");
+    }
+}
