@@ -180,3 +180,24 @@ fn off_axis_quadrature_meets_the_on_axis_rings_near_the_axis() {
     );
     assert!((soff.1 / son.1 - 1.0).abs() < 1e-9 && (soff.0 - son.0).abs() < 1e-9, "{soff:?} vs {son:?}");
 }
+
+/// A vignetted off-axis point whose chief ray is itself cut by the lens rim still shows the rays that get
+/// through, and its field figures (properties of the chief ray's thin bundle, apertures aside) are those
+/// of the same bench with the rim opened up.
+#[test]
+fn a_vignetted_off_axis_point_keeps_its_spot_and_field_figures() {
+    let open = find("camera-meniscus").unwrap().text.replace("at_mm: 40.0, kind: Iris", "at_mm: 20.0, kind: Iris");
+    let cut = open.replace("thickness_mm: 4.0, diameter_mm: 24.0", "thickness_mm: 4.0, diameter_mm: 12.0");
+    let (r, v) = views(&bench(&cut));
+    assert!(r.off_axis_transmission.unwrap() < 0.5);
+    let spot = v.spot.unwrap();
+    let off: Vec<_> = spot.series.iter().filter(|s| s.point == Point::OffAxis).collect();
+    assert_eq!(off.len(), 3);
+    assert!(off.iter().all(|s| s.lost > 0 && s.rays.len() > 10 && s.rms_mm > 0.0), "{:?}", v.notes);
+    let (_, wide) = views(&bench(&open));
+    let (f_cut, f_open) = (v.field.unwrap(), wide.field.unwrap());
+    assert_eq!(f_cut.points.len(), f_open.points.len());
+    for (a, b) in f_cut.points.iter().zip(&f_open.points) {
+        assert_eq!(a, b);
+    }
+}

@@ -5,7 +5,8 @@
 //! The foci are found from real skew rays aimed through the real stop at ±δ about the chief ray: the
 //! tangential pair crosses itself in the meridional plane, the sagittal ray crosses the meridional plane.
 //! The O(δ²) error of a finite δ is removed by Richardson extrapolation from δ and 2δ, which leaves
-//! O(δ⁴) ≈ 1e-11 of the bundle's length at δ = 2e-3 of the stop radius.
+//! O(δ⁴) ≈ 1e-11 of the bundle's length at δ = 2e-3 of the stop radius. These are figures of the chief
+//! ray's thin bundle, so clear apertures are ignored: a vignetted chief ray still has its foci.
 
 use crate::paraxial::{self, Object};
 use crate::pupil::{Aimer, FieldPoint, Pupils};
@@ -46,7 +47,7 @@ fn crossing_z(a: &SkewRay, b: &SkewRay) -> Option<f64> {
 
 /// The foci of the bundle about the chief ray at pupil offset `d`: (tangential z, sagittal z).
 fn foci_at(seq: &Sequence, aimer: &SkewAimer, d: f64) -> Result<(f64, f64), RayError> {
-    let ray = |px: f64, py: f64| aimer.ray_for(px, py).and_then(|r| skew::trace(seq, r));
+    let ray = |px: f64, py: f64| aimer.ray_for(px, py).and_then(|r| skew::trace_with(seq, r, false));
     let (up, down) = (ray(0.0, d)?, ray(0.0, -d)?);
     let side = ray(d, 0.0)?;
     let last = seq.steps.len().saturating_sub(1);
@@ -73,7 +74,7 @@ pub fn field_sample(
     let (t1, s1) = foci_at(seq, &aimer, DELTA)?;
     let (t2, s2) = foci_at(seq, &aimer, 2.0 * DELTA)?;
     let (zt, zs) = ((4.0 * t1 - t2) / 3.0, (4.0 * s1 - s2) / 3.0);
-    let chief = skew::trace(seq, aimer.chief_ray())?;
+    let chief = skew::trace_with(seq, aimer.chief_ray(), false)?;
     let chief_height_mm = chief.at_plane(image_at_mm).1;
     let paraxial_height_mm = match object {
         Object::Finite { .. } => fraction * full_height_mm,
@@ -113,7 +114,7 @@ pub fn field_curves(seq: &Sequence, object: Object, pupils: &Pupils, count: usiz
 }
 
 /// The real chief ray's height at the plane `z_mm`, for the object point at `fraction` of the field
-/// (aimed meridionally at the stop's centre).
+/// (aimed meridionally at the stop's centre; clear apertures ignored, as for the foci).
 pub fn chief_height_at(
     seq: &Sequence,
     object: Object,
@@ -125,7 +126,7 @@ pub fn chief_height_at(
     let mut scaled = pupils.clone();
     scaled.chief_start = (pupils.chief_start.0 * fraction, pupils.chief_start.1 * fraction);
     let (ray, _) = Aimer::new(seq, point, &scaled, FieldPoint::OffAxis).ray_for(0.0, None)?;
-    Ok(trace::trace(seq, ray)?.height_at(z_mm))
+    Ok(trace::trace_range(seq, ray, 0..seq.steps.len(), false)?.height_at(z_mm))
 }
 
 #[cfg(test)]

@@ -261,7 +261,8 @@ pub struct TracedGrid {
     pub rays: Vec<(PupilSample, SkewRay)>,
     /// Samples that were blocked, missed a surface or could not be aimed.
     pub lost: usize,
-    /// The chief ray after the last surface.
+    /// The chief ray after the last surface (traced with the apertures ignored, so that it is there as
+    /// the reference even when it is vignetted).
     pub chief: SkewRay,
 }
 
@@ -275,7 +276,7 @@ pub fn trace_grid(
     grid: &[PupilSample],
 ) -> Result<TracedGrid, RayError> {
     let aimer = SkewAimer::new(seq, object, pupils, fraction)?;
-    let chief = skew::trace(seq, aimer.chief_ray())?;
+    let chief = skew::trace_with(seq, aimer.chief_ray(), false)?;
     let mut rays = Vec::with_capacity(grid.len());
     let mut lost = 0;
     for s in grid {

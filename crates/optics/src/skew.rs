@@ -67,12 +67,18 @@ pub fn through_step(step: &Step, index: usize, ray: &SkewRay, check_aperture: bo
 }
 
 /// Traces a skew ray through every surface; returns the ray after the last one.
-pub fn trace(seq: &Sequence, mut ray: SkewRay) -> Result<SkewRay, RayError> {
+pub fn trace(seq: &Sequence, ray: SkewRay) -> Result<SkewRay, RayError> {
+    trace_with(seq, ray, true)
+}
+
+/// Traces a skew ray through every surface, checking the clear apertures only when `check_apertures`
+/// (without, a vignetted chief ray can still serve as a reference).
+pub fn trace_with(seq: &Sequence, mut ray: SkewRay, check_apertures: bool) -> Result<SkewRay, RayError> {
     if !ray.is_finite() {
         return Err(RayError::NonFinite { surface: None });
     }
     for (i, step) in seq.steps.iter().enumerate() {
-        ray = through_step(step, i, &ray, true)?;
+        ray = through_step(step, i, &ray, check_apertures)?;
     }
     Ok(ray)
 }
