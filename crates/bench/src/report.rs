@@ -408,9 +408,9 @@ impl Report {
                 let (_, rms, geo) = s.planes[k];
                 fig.rms_spot_um = Some(um(rms));
                 fig.geometric_spot_um = Some(um(geo));
-                fig.best_focus_at_mm = Some(s.best_focus_at_mm);
-                fig.best_rms_spot_um = Some(um(s.best_rms_mm));
-                fig.move_to_best_focus_mm = Some(s.best_focus_at_mm - p.at_mm);
+                fig.best_focus_at_mm = s.best_focus_at_mm;
+                fig.best_rms_spot_um = s.best_rms_mm.map(um);
+                fig.move_to_best_focus_mm = s.best_focus_at_mm.map(|z| z - p.at_mm);
                 fig.rms_over_airy = airy_um.filter(|a| *a > 0.0).map(|a| um(rms) / a);
                 let half = 0.5 * p.kind.diameter_mm();
                 if let Some(h) = self.images.last().and_then(|img| img.height_mm).filter(|h| h.abs() > half)

@@ -13,7 +13,7 @@ use lumenrail_optics::field::{FieldSample, chief_height_at, field_curves};
 use lumenrail_optics::material::{ABBE_RANGE_NM, Material};
 use lumenrail_optics::paraxial::{self, Object};
 use lumenrail_optics::pupil::Pupils;
-use lumenrail_optics::sampling::{Grid, PupilSample, trace_grid};
+use lumenrail_optics::sampling::{Grid, PupilSample, pupil_transmission, trace_grid};
 use lumenrail_optics::skew::SkewRay;
 use lumenrail_optics::spot::{AxialSpot, spot_figures};
 use lumenrail_optics::system::{Action, Sequence};
@@ -139,6 +139,9 @@ pub struct SpotSeries {
     pub rms_mm: f64,
     /// Radius about the centroid that holds every ray of the grid, mm.
     pub geometric_mm: f64,
+    /// Share of the real stop's area whose rays get through every aperture (computed at the primary
+    /// wavelength; `None` at the others).
+    pub transmission: Option<f64>,
 }
 
 /// The spot view.
@@ -283,7 +286,7 @@ const FIELD_POINTS: usize = 11;
 type Quadrature = (Vec<(PupilSample, SkewRay)>, SkewRay);
 
 /// Where the off-axis point's figures come from: Gauss quadrature over the pupil, doubled from 6 rings by
-/// 12 arms until the RMS radius at the plane `z` settles to 1e-9 (at most 24 × 48).
+/// 12 arms until the RMS radius at the plane `z` settles to 1e-9 of itself or 1e-12 mm (at most 24 × 48).
 fn off_axis_quadrature(seq: &Sequence, object: Object, pupils: &Pupils, z: f64) -> Option<Quadrature> {
     let mut last: Option<(Quadrature, f64)> = None;
     let mut rings = 6;
@@ -295,7 +298,7 @@ fn off_axis_quadrature(seq: &Sequence, object: Object, pupils: &Pupils, z: f64) 
         }
         let rms = weighted_spot(&traced.rays, z).2;
         if let Some((_, prev)) = &last
-            && (rms - prev).abs() <= 1e-9 * rms.max(*prev) + 1e-15
+            && (rms - prev).abs() <= 1e-9 * rms.max(*prev) + 1e-12
         {
             return Some((traced.rays, traced.chief));
         }
@@ -326,20 +329,43 @@ fn weighted_spot(rays: &[(PupilSample, SkewRay)], z: f64) -> (f64, f64, f64) {
     (cx, cy, ms.sqrt())
 }
 
-/// The plane of least RMS radius about the centroid for straight rays: RMS² is quadratic in z.
-fn weighted_best_focus(rays: &[(PupilSample, SkewRay)], z_ref: f64) -> f64 {
-    let w: f64 = rays.iter().map(|(s, _)| s.weight).sum();
-    let mean = |f: &dyn Fn(&SkewRay) -> f64| rays.iter().map(|(s, r)| s.weight * f(r)).sum::<f64>() / w;
-    let (x0, y0) = (mean(&|r| r.at_plane(z_ref).0), mean(&|r| r.at_plane(z_ref).1));
-    let (sx0, sy0) = (mean(&|r| r.k / r.l), mean(&|r| r.m / r.l));
-    let (mut num, mut den) = (0.0, 0.0);
-    for (s, r) in rays {
-        let (x, y) = r.at_plane(z_ref);
-        let (dx, dy, sx, sy) = (x - x0, y - y0, r.k / r.l - sx0, r.m / r.l - sy0);
-        num += s.weight * (dx * sx + dy * sy);
-        den += s.weight * (sx * sx + sy * sy);
+/// The weighted second moments of straight rays about their centroid at a reference plane: with t the
+/// distance from that plane, RMS²(t) = (Vxx + Vyy) + 2t(Cxs + Cys) + t²(Vss), so the sweep and its exact
+/// minimum cost nothing per plane.
+struct Moments {
+    z_ref: f64,
+    v: f64,
+    c: f64,
+    vs: f64,
+}
+
+impl Moments {
+    fn of(rays: &[(PupilSample, SkewRay)], z_ref: f64) -> Moments {
+        let w: f64 = rays.iter().map(|(s, _)| s.weight).sum();
+        let mean = |f: &dyn Fn(&SkewRay) -> f64| rays.iter().map(|(s, r)| s.weight * f(r)).sum::<f64>() / w;
+        let (x0, y0) = (mean(&|r| r.at_plane(z_ref).0), mean(&|r| r.at_plane(z_ref).1));
+        let (sx0, sy0) = (mean(&|r| r.k / r.l), mean(&|r| r.m / r.l));
+        let (mut v, mut c, mut vs) = (0.0, 0.0, 0.0);
+        for (s, r) in rays {
+            let (x, y) = r.at_plane(z_ref);
+            let (dx, dy, sx, sy) = (x - x0, y - y0, r.k / r.l - sx0, r.m / r.l - sy0);
+            v += s.weight * (dx * dx + dy * dy);
+            c += s.weight * (dx * sx + dy * sy);
+            vs += s.weight * (sx * sx + sy * sy);
+        }
+        Moments { z_ref, v: v / w, c: c / w, vs: vs / w }
     }
-    if den > 0.0 { z_ref - num / den } else { z_ref }
+
+    /// RMS radius about the centroid at the plane `z`.
+    fn rms_at(&self, z: f64) -> f64 {
+        let t = z - self.z_ref;
+        (self.v + t * (2.0 * self.c + t * self.vs)).max(0.0).sqrt()
+    }
+
+    /// The plane of least RMS radius (`None` for a collimated bundle).
+    fn best_focus(&self) -> Option<f64> {
+        (self.vs > 1e-24).then(|| self.z_ref - self.c / self.vs)
+    }
 }
 
 /// The per-wavelength pieces every view needs.
@@ -379,10 +405,6 @@ impl Views {
             return views;
         };
         let final_image = paraxial::images(&primary.seq, &object).last().and_then(|i| i.at_mm);
-        let Some(best) = spot_figures(&primary.seq, object, pupils, &[]).ok() else {
-            views.notes.push("the on-axis light does not reach an image".into());
-            return views;
-        };
         if final_image.is_none() {
             views.notes.push(if report.afocal.is_some() {
                 "the bench is afocal: the light leaves parallel, so there is no image plane to look at".into()
@@ -392,7 +414,15 @@ impl Views {
             });
             return views;
         }
-        let (plane_at_mm, plane_label) = choose_plane(bench, &compiled, report, &request.plane, best.best_focus_at_mm);
+        let Some(best) = spot_figures(&primary.seq, object, pupils, &[]).ok() else {
+            views.notes.push("the on-axis light does not reach an image".into());
+            return views;
+        };
+        let Some(best_focus_at_mm) = best.best_focus_at_mm else {
+            views.notes.push("the on-axis light leaves collimated, so it has no focus to look at".into());
+            return views;
+        };
+        let (plane_at_mm, plane_label) = choose_plane(bench, &compiled, report, &request.plane, best_focus_at_mm);
         let airy_radius_mm = report.aberrations.airy_radius_um.map(|u| u * 1e-3);
         let mut spot = SpotView {
             plane_at_mm,
@@ -403,7 +433,7 @@ impl Views {
         };
         let mut fan = FanView { plane_at_mm, series: Vec::new() };
         let mut sweep = SweepView {
-            best_focus_at_mm: best.best_focus_at_mm,
+            best_focus_at_mm,
             depth_of_focus_mm: report.aberrations.depth_of_focus_mm,
             airy_radius_mm,
             plane_at_mm,
@@ -440,12 +470,15 @@ impl Views {
                     {
                         (s.rms_mm, s.geometric_mm) = (f.planes[0].1, f.planes[0].2);
                     }
+                    if std::ptr::eq(c, primary) {
+                        s.transmission = pupil_transmission(&c.seq, object, p, point.fraction()).ok();
+                    }
                     spot.series.push(s);
                 }
                 if let Some(f) = fan_series(&c.seq, object, p, point, plane_at_mm, reference) {
                     fan.series.push(f);
                 }
-                if let Some(s) = sweep_series(&c.seq, object, p, point, &sweep_planes, quad.as_ref()) {
+                if let Some(s) = sweep_series(&c.seq, object, p, point, &sweep_planes, plane_at_mm, quad.as_ref()) {
                     sweep.series.push(SweepSeries { wavelength_nm: w, ..s });
                 }
             }
@@ -596,6 +629,7 @@ fn spot_series(
         centroid,
         rms_mm,
         geometric_mm,
+        transmission: None,
     })
 }
 
@@ -655,6 +689,7 @@ fn sweep_series(
     pupils: &Pupils,
     point: Point,
     planes: &[f64],
+    view_plane: f64,
     quad: Option<&Quadrature>,
 ) -> Option<SweepSeries> {
     let (samples, best) = match point {
@@ -662,13 +697,14 @@ fn sweep_series(
             let figures = spot_figures(seq, object, pupils, &[]).ok()?;
             let spot = AxialSpot::trace(seq, object, pupils, figures.rings).ok()?;
             let samples = planes.iter().map(|&z| (z, spot.rms_radius_at(z))).collect();
-            (samples, (figures.best_focus_at_mm, figures.best_rms_mm))
+            (samples, (figures.best_focus_at_mm?, figures.best_rms_mm?))
         }
         Point::OffAxis => {
-            let (rays, chief) = quad?;
-            let samples = planes.iter().map(|&z| (z, weighted_spot(rays, z).2)).collect();
-            let z = weighted_best_focus(rays, chief.z_mm);
-            (samples, (z, weighted_spot(rays, z).2))
+            let (rays, _) = quad?;
+            let m = Moments::of(rays, view_plane);
+            let samples = planes.iter().map(|&z| (z, m.rms_at(z))).collect();
+            let z = m.best_focus()?;
+            (samples, (z, m.rms_at(z)))
         }
     };
     Some(SweepSeries { point, wavelength_nm: seq.wavelength_nm, samples, best })

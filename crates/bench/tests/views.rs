@@ -194,6 +194,14 @@ fn a_vignetted_off_axis_point_keeps_its_spot_and_field_figures() {
     let off: Vec<_> = spot.series.iter().filter(|s| s.point == Point::OffAxis).collect();
     assert_eq!(off.len(), 3);
     assert!(off.iter().all(|s| s.lost > 0 && s.rays.len() > 10 && s.rms_mm > 0.0), "{:?}", v.notes);
+    // The share of the pupil's area that gets through, at the primary wavelength: all of it on axis, part
+    // of it off axis, and about as much as the grid's surviving rays say (the grid is coarse: 10%).
+    let primary = off.iter().find(|s| s.transmission.is_some()).unwrap();
+    let t = primary.transmission.unwrap();
+    let grid_share = primary.rays.len() as f64 / (primary.rays.len() + primary.lost) as f64;
+    assert!(t > 0.05 && t < 0.6 && (t - grid_share).abs() < 0.1, "{t} vs {grid_share}");
+    let on = spot.series.iter().find(|s| s.point == Point::OnAxis && s.transmission.is_some()).unwrap();
+    assert_eq!(on.transmission, Some(1.0));
     let (_, wide) = views(&bench(&open));
     let (f_cut, f_open) = (v.field.unwrap(), wide.field.unwrap());
     assert_eq!(f_cut.points.len(), f_open.points.len());

@@ -117,7 +117,8 @@ impl<'a> AxialSpot<'a> {
 
     /// The plane of least RMS radius and the RMS radius there. RMS² is quadratic in the plane's position,
     /// so its minimum is found exactly: Δz = −Σw y s / Σw s², with y and s each ray's height and slope.
-    pub fn best_focus(&self) -> (f64, f64) {
+    /// `None` when the light leaves collimated (RMS slope below 1e-12): there is no focus to find.
+    pub fn best_focus(&self) -> Option<(f64, f64)> {
         let z_ref = self.marginal.z_mm;
         let (mut ys, mut ss) = (0.0, 0.0);
         for r in &self.rings {
@@ -126,8 +127,11 @@ impl<'a> AxialSpot<'a> {
             ys += r.weight * y * s;
             ss += r.weight * s * s;
         }
-        let z = if ss > 0.0 { z_ref - ys / ss } else { z_ref };
-        (z, self.rms_radius_at(z))
+        if ss < 1e-24 {
+            return None;
+        }
+        let z = z_ref - ys / ss;
+        Some((z, self.rms_radius_at(z)))
     }
 
     /// Geometric spot radius at `z_mm` (the radius that holds every ray), mm: the largest of the evenly
@@ -233,12 +237,12 @@ fn parabolic_max(
 pub struct SpotFigures {
     /// For each asked plane: (rail position, RMS radius mm, geometric radius mm).
     pub planes: Vec<(f64, f64, f64)>,
-    /// Rail position of least RMS radius.
-    pub best_focus_at_mm: f64,
+    /// Rail position of least RMS radius (`None`: the light leaves collimated).
+    pub best_focus_at_mm: Option<f64>,
     /// RMS radius there, mm.
-    pub best_rms_mm: f64,
+    pub best_rms_mm: Option<f64>,
     /// Geometric radius there, mm.
-    pub best_geometric_mm: f64,
+    pub best_geometric_mm: Option<f64>,
     /// The marginal ray in image space.
     pub marginal: Ray,
     /// Ring count the figures converged at.
@@ -258,10 +262,12 @@ pub fn spot_figures(
     let mut prev: Option<Vec<f64>> = None;
     loop {
         let spot = AxialSpot::trace(seq, object, pupils, rings)?;
-        let (bz, brms) = spot.best_focus();
+        let best = spot.best_focus();
         let mut figures: Vec<f64> = planes_mm.iter().map(|&z| spot.rms_radius_at(z)).collect();
-        figures.push(brms);
-        figures.push(bz);
+        if let Some((bz, brms)) = best {
+            figures.push(brms);
+            figures.push(bz);
+        }
         let settled = prev
             .as_ref()
             .is_some_and(|p| p.iter().zip(&figures).all(|(a, b)| (a - b).abs() <= 1e-9 * b.abs().max(a.abs()) + 1e-12));
@@ -269,9 +275,9 @@ pub fn spot_figures(
             let spot = spot.with_geometric_samples();
             return Ok(SpotFigures {
                 planes: planes_mm.iter().map(|&z| (z, spot.rms_radius_at(z), spot.geometric_radius_at(z))).collect(),
-                best_focus_at_mm: bz,
-                best_rms_mm: brms,
-                best_geometric_mm: spot.geometric_radius_at(bz),
+                best_focus_at_mm: best.map(|b| b.0),
+                best_rms_mm: best.map(|b| b.1),
+                best_geometric_mm: best.map(|b| spot.geometric_radius_at(b.0)),
                 marginal: spot.marginal,
                 rings,
                 blocked_share: spot.blocked_share,
@@ -279,5 +285,34 @@ pub fn spot_figures(
         }
         prev = Some(figures);
         rings *= 2;
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::material::Material;
+    use crate::system::{Surface, System};
+
+    /// A telescope of two ideal lenses sharing a focus sends a distant point's light out collimated: there
+    /// is no best focus, and the figures settle at once instead of doubling the rings for ever.
+    #[test]
+    fn a_collimated_exit_beam_has_no_best_focus() {
+        let seq = System {
+            object_medium: Material::AIR,
+            surfaces: vec![
+                Surface::ideal_lens(100.0, 200.0).with_semi_aperture(20.0),
+                Surface::ideal_lens(350.0, 50.0),
+            ],
+        }
+        .at(550.0)
+        .unwrap();
+        let object = Object::Distant { field_deg: 0.0, beam_diameter_mm: 20.0 };
+        let pupils = Pupils::find(&seq, &object).unwrap();
+        let s = spot_figures(&seq, object, &pupils, &[450.0]).unwrap();
+        assert_eq!((s.best_focus_at_mm, s.best_rms_mm), (None, None));
+        assert!(s.rings <= 8, "{}", s.rings);
+        // The beam is 200/50 = 4 times narrower: a 2.5 mm radius disk, RMS 2.5/√2 mm.
+        assert!((s.planes[0].1 - 2.5 / 2f64.sqrt()).abs() < 1e-9, "{}", s.planes[0].1);
     }
 }

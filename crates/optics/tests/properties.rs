@@ -101,7 +101,7 @@ proptest! {
             prop_assert!(finite_or_none(v), "{v:?}");
         }
         if let Some(Ok(s)) = &a.spot {
-            prop_assert!(s.best_rms_mm.is_finite() && s.best_focus_at_mm.is_finite() && s.best_geometric_mm.is_finite());
+            prop_assert!(finite_or_none(s.best_rms_mm) && finite_or_none(s.best_focus_at_mm) && finite_or_none(s.best_geometric_mm));
             for (z, rms, geo) in &s.planes {
                 prop_assert!(z.is_finite() && rms.is_finite() && geo.is_finite());
             }

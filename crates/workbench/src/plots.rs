@@ -221,7 +221,11 @@ fn spot_ui(ui: &mut egui::Ui, views: &Views, interactive: bool, height: f32) {
                     fixed(s.geometric_mm * 1e3, 3),
                     fixed(s.centroid.0, 4),
                     fixed(s.centroid.1, 4),
-                    if s.lost > 0 { format!(", {} rays stopped", s.lost) } else { String::new() }
+                    match s.transmission {
+                        Some(t) if t < 1.0 - 5e-4 => format!(", {}% of the pupil gets through", fixed(100.0 * t, 1)),
+                        _ if s.lost > 0 => format!(", {} of the grid's rays stopped", s.lost),
+                        _ => String::new(),
+                    }
                 ));
             }
         }
