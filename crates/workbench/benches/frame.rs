@@ -47,26 +47,30 @@ fn views_recompute(c: &mut Criterion) {
     g.finish();
 }
 
-/// A whole frame of the workbench (layout, rail drawing, readout, tessellation-free CPU work of egui) while
-/// the lens is moved each frame, headless.
+/// A whole frame of the workbench (layout, rail drawing, readout, the views panel when shown; egui's CPU
+/// work, headless) while the first part is moved each frame.
 fn whole_frame(c: &mut Criterion) {
-    let mut g = c.benchmark_group("whole_frame");
-    for name in ["one-lens-screen", "colour-achromat", "unit-relay", "camera-meniscus"] {
-        let mut h = egui_kittest::Harness::builder()
-            .with_size(egui::vec2(1400.0, 860.0))
-            .build_ui_state(|ui, wb: &mut Workbench| wb.ui(ui), Workbench::demo(name));
-        h.run();
-        let mut k = 0u32;
-        g.bench_function(name, |b| {
-            b.iter(|| {
-                k = k.wrapping_add(1);
-                let at = h.state().bench.parts[0].at_mm + if k.is_multiple_of(2) { 0.5 } else { -0.5 };
-                h.state_mut().apply(lumenrail_workbench::Edit::Move { index: 0, at_mm: at }, Some("bench"));
-                h.step();
-            })
-        });
+    for (group, views) in [("whole_frame", true), ("whole_frame_views_hidden", false)] {
+        let mut g = c.benchmark_group(group);
+        for name in ["one-lens-screen", "colour-achromat", "unit-relay", "camera-meniscus"] {
+            let mut wb = Workbench::demo(name);
+            wb.views.shown = views;
+            let mut h = egui_kittest::Harness::builder()
+                .with_size(egui::vec2(1400.0, 860.0))
+                .build_ui_state(|ui, wb: &mut Workbench| wb.ui(ui), wb);
+            h.run();
+            let mut k = 0u32;
+            g.bench_function(name, |b| {
+                b.iter(|| {
+                    k = k.wrapping_add(1);
+                    let at = h.state().bench.parts[0].at_mm + if k.is_multiple_of(2) { 0.5 } else { -0.5 };
+                    h.state_mut().apply(lumenrail_workbench::Edit::Move { index: 0, at_mm: at }, Some("bench"));
+                    h.step();
+                })
+            });
+        }
+        g.finish();
     }
-    g.finish();
 }
 
 criterion_group!(benches, drag_recompute, views_recompute, whole_frame);
