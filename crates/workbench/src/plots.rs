@@ -261,12 +261,13 @@ fn fan_ui(ui: &mut egui::Ui, views: &Views, interactive: bool, height: f32) {
 fn sweep_ui(ui: &mut egui::Ui, views: &Views, interactive: bool, height: f32) {
     let Some(v) = &views.sweep else { return };
     ui.label(format!(
-        "RMS spot radius through focus, µm. On-axis best focus {} mm{}; the spot view's plane is marked.",
+        "RMS spot radius through focus, µm. On-axis best focus {} mm{}; the spot view's plane (a vertical line) is marked.",
         fixed(v.best_focus_at_mm, 3),
         v.depth_of_focus_mm.map_or_else(String::new, |d| format!(", depth of focus ±{} mm (shaded)", fixed(d, 4)))
     ));
     let colours: Vec<Color32> = v.series.iter().map(|s| series_colour(ui, s.wavelength_nm)).collect();
     let text = ui.visuals().text_color();
+    let plane_label = views.spot.as_ref().map_or_else(|| "view plane".to_string(), |s| s.plane_label.clone());
     plot("sweep", "plane, mm", "RMS radius, µm", interactive, height).show(ui, |p| {
         if let Some(d) = v.depth_of_focus_mm {
             p.span(Span::new("depth of focus", (v.best_focus_at_mm - d)..=(v.best_focus_at_mm + d)));
@@ -278,7 +279,7 @@ fn sweep_ui(ui: &mut egui::Ui, views: &Views, interactive: bool, height: f32) {
         if let Some(a) = v.airy_radius_mm {
             p.hline(HLine::new("Airy radius", a * 1e3).color(Color32::GRAY).style(LineStyle::dashed_loose()));
         }
-        p.vline(VLine::new("view plane", v.plane_at_mm).color(text));
+        p.vline(VLine::new(plane_label, v.plane_at_mm).color(text));
     });
     for s in &v.series {
         ui.label(format!(
