@@ -178,6 +178,8 @@ pub struct Report {
     pub afocal: Option<Afocal>,
     /// Share of the off-axis point's meridional pupil that passes every aperture (1: no vignetting).
     pub off_axis_transmission: Option<f64>,
+    /// Share of the off-axis point's pupil area that passes every aperture (1: no vignetting).
+    pub off_axis_area_transmission: Option<f64>,
     /// Field curvature, astigmatism, distortion and lateral colour of the off-axis point (null without a
     /// final image or an off-axis point).
     pub field: Option<FieldFigures>,
@@ -214,6 +216,7 @@ impl Report {
             aberrations: Aberrations::default(),
             afocal: None,
             off_axis_transmission: None,
+            off_axis_area_transmission: None,
             field: None,
             colour: Vec::new(),
             warnings: Vec::new(),
@@ -357,14 +360,20 @@ impl Report {
             seidel: a.seidel.as_ref().map(|s| s.total),
         };
         self.off_axis_transmission = a.off_axis_transmission;
-        if let Some(t) = a.off_axis_transmission
-            && t < 1.0 - 1e-6
-        {
+        self.off_axis_area_transmission = a.off_axis_area_transmission;
+        let (line, area) = (a.off_axis_transmission.unwrap_or(1.0), a.off_axis_area_transmission.unwrap_or(1.0));
+        if line < 1.0 - 1e-6 || area < 1.0 - 1e-6 {
             let off_axis = match bench.object {
                 ObjectSpec::Point { height_mm, .. } => format!("the object point {height_mm} mm off axis"),
                 ObjectSpec::Distant { field_deg, .. } => format!("the field point {field_deg}° off axis"),
             };
-            self.warnings.push(format!("vignetting: {off_axis} keeps {:.1}% of its meridional pupil", 100.0 * t));
+            let area = a
+                .off_axis_area_transmission
+                .map_or_else(String::new, |t| format!("{}% of its pupil's area and ", fixed(100.0 * t, 1)));
+            self.warnings.push(format!(
+                "vignetting: {off_axis} keeps {area}{}% of its meridional pupil",
+                fixed(100.0 * line, 1)
+            ));
         }
         // Screens: figures for the light's last crossing, which the final rays give when the screen lies in
         // the final space (beyond the last surface, along the final direction).
@@ -568,7 +577,10 @@ impl Report {
             );
         }
         if let Some(v) = self.off_axis_transmission {
-            let _ = writeln!(t, "  off-axis point keeps {:.1}% of its meridional pupil", 100.0 * v);
+            let area = self
+                .off_axis_area_transmission
+                .map_or_else(String::new, |a| format!("{}% of its pupil's area, ", fixed(100.0 * a, 1)));
+            let _ = writeln!(t, "  off-axis point keeps {area}{}% of its meridional pupil", fixed(100.0 * v, 1));
         }
         if let Some(f) = &self.field {
             let _ = writeln!(

@@ -6,6 +6,7 @@
 
 use crate::paraxial::{self, FirstOrder, Object, ParaxialImage};
 use crate::pupil::{FieldPoint, PupilError, Pupils, meridional_transmission};
+use crate::sampling::pupil_transmission;
 use crate::seidel::{Seidel, seidel};
 use crate::spot::{SpotError, SpotFigures, spot_figures};
 use crate::system::{Sequence, System, SystemError};
@@ -25,7 +26,7 @@ pub struct Request {
     pub primary: usize,
     /// Planes (rail positions, mm) at which to give spot figures, such as screens.
     pub planes_mm: Vec<f64>,
-    /// Whether to compute the off-axis point's meridional vignetting (it costs about a hundred traces).
+    /// Whether to compute the off-axis point's vignetting, meridional and by area (a few hundred traces).
     pub vignetting: bool,
 }
 
@@ -94,6 +95,9 @@ pub struct Analysis {
     pub seidel: Option<Seidel>,
     /// Share of the off-axis point's meridional pupil that passes every aperture (`None` if not asked).
     pub off_axis_transmission: Option<f64>,
+    /// Share of the off-axis point's pupil area that passes every aperture, from skew rays
+    /// ([`crate::sampling::pupil_transmission`]; `None` if not asked or its chief ray cannot be aimed).
+    pub off_axis_area_transmission: Option<f64>,
 }
 
 /// Evaluates `system` for `request`.
@@ -146,6 +150,7 @@ pub fn analyse(system: &System, request: &Request) -> Result<Analysis, AnalysisE
         depth_of_focus_mm: None,
         seidel: None,
         off_axis_transmission: None,
+        off_axis_area_transmission: None,
     };
     let Ok(p) = pupils else {
         return Ok(analysis);
@@ -195,6 +200,7 @@ pub fn analyse(system: &System, request: &Request) -> Result<Analysis, AnalysisE
     }));
     if request.vignetting {
         analysis.off_axis_transmission = Some(meridional_transmission(&seq, object, &p, FieldPoint::OffAxis));
+        analysis.off_axis_area_transmission = pupil_transmission(&seq, object, &p, 1.0).ok();
     }
     Ok(analysis)
 }
