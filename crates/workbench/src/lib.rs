@@ -626,11 +626,15 @@ impl Workbench {
             mm(ab.chromatic_focal_shift_mm)
         ));
         if let Some(fd) = &r.field {
+            let point = match self.bench.object {
+                ObjectSpec::Point { height_mm, .. } => format!("{height_mm} mm off axis"),
+                ObjectSpec::Distant { field_deg, .. } => format!("{field_deg} deg off axis"),
+            };
             ui.label(format!(
-                "Off-axis foci from the paraxial image: tangential {}, sagittal {} (astigmatism {})",
+                "Foci of the point {point}, from the paraxial image: tangential {}, sagittal {} (astigmatism {})",
                 mm(Some(fd.tangential_focus_mm)),
                 mm(Some(fd.sagittal_focus_mm)),
-                mm(Some(fd.astigmatism_mm))
+                mm(Some(fd.astigmatism_mm)),
             ));
             let pc = fd.distortion_percent.map_or_else(|| "—".to_string(), |d| format!("{}%", fixed(d, 4)));
             ui.label(format!("Distortion {pc}, lateral colour {}", mm(fd.lateral_colour_mm)));
