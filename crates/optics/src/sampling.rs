@@ -10,6 +10,7 @@ use crate::paraxial::Object;
 use crate::pupil::{Aimer, FieldPoint, Pupils, StopAt};
 use crate::quadrature::pupil_rings;
 use crate::skew::{self, SkewRay};
+use crate::skew_batch::{SkewBatch, trace_skew_batch};
 use crate::system::Sequence;
 use crate::trace::RayError;
 
@@ -277,15 +278,20 @@ pub fn trace_grid(
 ) -> Result<TracedGrid, RayError> {
     let aimer = SkewAimer::new(seq, object, pupils, fraction)?;
     let chief = skew::trace_with(seq, aimer.chief_ray(), false)?;
-    let mut rays = Vec::with_capacity(grid.len());
-    let mut lost = 0;
+    // Aim every sample, then trace the aimed rays together through the batched kernel.
+    let inside = 1.0 - 1e-12;
+    let mut aimed = Vec::with_capacity(grid.len());
+    let mut batch = SkewBatch::with_capacity(grid.len());
     for s in grid {
-        let inside = 1.0 - 1e-12;
-        match aimer.ray_for(s.px * inside, s.py * inside).and_then(|r| skew::trace(seq, r)) {
-            Ok(r) => rays.push((*s, r)),
-            Err(_) => lost += 1,
+        if let Ok(r) = aimer.ray_for(s.px * inside, s.py * inside) {
+            aimed.push(*s);
+            batch.push(r);
         }
     }
+    trace_skew_batch(seq, &mut batch);
+    let rays: Vec<(PupilSample, SkewRay)> =
+        aimed.into_iter().enumerate().filter_map(|(i, s)| batch.outcome(i).ok().map(|r| (s, r))).collect();
+    let lost = grid.len() - rays.len();
     Ok(TracedGrid { rays, lost, chief })
 }
 
