@@ -471,7 +471,11 @@ impl Views {
                         (s.rms_mm, s.geometric_mm) = (f.planes[0].1, f.planes[0].2);
                     }
                     if std::ptr::eq(c, primary) {
-                        s.transmission = pupil_transmission(&c.seq, object, p, point.fraction()).ok();
+                        // The off-axis share is the report's; the on-axis one is a single arm's.
+                        s.transmission = match point {
+                            Point::OffAxis => report.off_axis_area_transmission,
+                            Point::OnAxis => pupil_transmission(&c.seq, object, p, 0.0).ok(),
+                        };
                     }
                     spot.series.push(s);
                 }

@@ -304,6 +304,10 @@ pub fn trace_grid(
 /// (a(φ) has kinks where the edge passes from one aperture to another, which the adaptive rule finds).
 pub fn pupil_transmission(seq: &Sequence, object: Object, pupils: &Pupils, fraction: f64) -> Result<f64, RayError> {
     let aimer = SkewAimer::new(seq, object, pupils, fraction)?;
+    if fraction == 0.0 {
+        // The on-axis point's pupil is the same along every arm (rotational symmetry).
+        return Ok(arm_share(seq, &aimer, 0.0).clamp(0.0, 1.0));
+    }
     let arm = |phi: f64| arm_share(seq, &aimer, phi);
     const START: usize = 8;
     let h = std::f64::consts::TAU / START as f64;
