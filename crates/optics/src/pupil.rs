@@ -305,32 +305,46 @@ pub fn meridional_transmission(seq: &Sequence, object: Object, pupils: &Pupils, 
             Err(_) => false,
         }
     };
-    const SAMPLES: usize = 64;
-    let ts: Vec<f64> = (0..=SAMPLES).map(|j| -1.0 + 2.0 * j as f64 / SAMPLES as f64).collect();
+    (passing_measure((-1.0, 1.0), 64, 2e-9, passes, |a, b| b - a) / 2.0).clamp(0.0, 1.0)
+}
+
+/// The measure of the part of `range` where `passes` holds: `samples` even intervals, each pass/block
+/// edge bisected to `tol`, `measure(a, b)` the measure of [a, b] (a length, or ρ₂² − ρ₁² for an area).
+pub(crate) fn passing_measure(
+    range: (f64, f64),
+    samples: usize,
+    tol: f64,
+    passes: impl Fn(f64) -> bool,
+    measure: impl Fn(f64, f64) -> f64,
+) -> f64 {
+    let (lo, hi) = range;
+    let ts: Vec<f64> = (0..=samples).map(|j| lo + (hi - lo) * j as f64 / samples as f64).collect();
     let ok: Vec<bool> = ts.iter().map(|&t| passes(t)).collect();
-    let mut length = 0.0;
-    // Sum passing sub-intervals, locating each pass/block edge by bisection.
-    for j in 0..SAMPLES {
+    if ok.iter().all(|&o| o) {
+        return measure(lo, hi);
+    }
+    let mut total = 0.0;
+    for j in 0..samples {
         let (t0, t1) = (ts[j], ts[j + 1]);
-        length += match (ok[j], ok[j + 1]) {
-            (true, true) => t1 - t0,
+        total += match (ok[j], ok[j + 1]) {
+            (true, true) => measure(t0, t1),
             (false, false) => 0.0,
             (first_ok, _) => {
-                let (mut lo, mut hi) = (t0, t1);
-                while hi - lo > 2e-9 {
-                    let mid = 0.5 * (lo + hi);
+                let (mut a, mut b) = (t0, t1);
+                while b - a > tol {
+                    let mid = 0.5 * (a + b);
                     if passes(mid) == first_ok {
-                        lo = mid;
+                        a = mid;
                     } else {
-                        hi = mid;
+                        b = mid;
                     }
                 }
-                let edge = 0.5 * (lo + hi);
-                if first_ok { edge - t0 } else { t1 - edge }
+                let edge = 0.5 * (a + b);
+                if first_ok { measure(t0, edge) } else { measure(edge, t1) }
             }
         };
     }
-    (length / 2.0).clamp(0.0, 1.0)
+    total
 }
 
 #[cfg(test)]

@@ -7,7 +7,7 @@
 //! filled through the stop as built rather than through its paraxial image.
 
 use crate::paraxial::Object;
-use crate::pupil::{Aimer, FieldPoint, Pupils, StopAt};
+use crate::pupil::{Aimer, FieldPoint, Pupils, StopAt, passing_measure};
 use crate::quadrature::pupil_rings;
 use crate::skew::{self, SkewRay};
 use crate::skew_batch::{SkewBatch, trace_skew_batch};
@@ -325,41 +325,13 @@ pub fn pupil_transmission(seq: &Sequence, object: Object, pupils: &Pupils, fract
 
 /// Σ(ρ₂² − ρ₁²) over the stretches of the arm at angle `phi` whose rays get through.
 fn arm_share(seq: &Sequence, aimer: &SkewAimer, phi: f64) -> f64 {
-    const SAMPLES: usize = 8;
     let (sin, cos) = phi.sin_cos();
     let inside = 1.0 - 1e-12;
     let passes = |rho: f64| {
         let r = rho * inside;
         aimer.ray_for(r * sin, r * cos).and_then(|ray| skew::trace(seq, ray)).is_ok()
     };
-    let rhos: Vec<f64> = (0..=SAMPLES).map(|j| j as f64 / SAMPLES as f64).collect();
-    let ok: Vec<bool> = rhos.iter().map(|&r| passes(r)).collect();
-    if ok.iter().all(|&o| o) {
-        return 1.0;
-    }
-    let area = |a: f64, b: f64| b * b - a * a;
-    let mut share = 0.0;
-    for j in 0..SAMPLES {
-        let (r0, r1) = (rhos[j], rhos[j + 1]);
-        share += match (ok[j], ok[j + 1]) {
-            (true, true) => area(r0, r1),
-            (false, false) => 0.0,
-            (first_ok, _) => {
-                let (mut lo, mut hi) = (r0, r1);
-                while hi - lo > 1e-8 {
-                    let mid = 0.5 * (lo + hi);
-                    if passes(mid) == first_ok {
-                        lo = mid;
-                    } else {
-                        hi = mid;
-                    }
-                }
-                let edge = 0.5 * (lo + hi);
-                if first_ok { area(r0, edge) } else { area(edge, r1) }
-            }
-        };
-    }
-    share
+    passing_measure((0.0, 1.0), 8, 1e-8, passes, |a, b| b * b - a * a)
 }
 
 /// Adaptive Simpson's rule on [a, b] with the ends' and midpoint's values known (Lyness 1969).
