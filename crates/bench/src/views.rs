@@ -15,7 +15,7 @@ use lumenrail_optics::paraxial::{self, Object};
 use lumenrail_optics::pupil::Pupils;
 use lumenrail_optics::sampling::{Grid, PupilSample, pupil_transmission, trace_grid};
 use lumenrail_optics::skew::SkewRay;
-use lumenrail_optics::spot::{AxialSpot, spot_figures};
+use lumenrail_optics::spot::{AxialSpot, SpotFigures, spot_figures};
 use lumenrail_optics::system::{Action, Sequence};
 use std::fmt::Write as _;
 
@@ -285,6 +285,14 @@ const FIELD_POINTS: usize = 11;
 /// Quadrature rays that got through, with their samples, and the chief ray, all in image space.
 type Quadrature = (Vec<(PupilSample, SkewRay)>, SkewRay);
 
+/// What a point's spot and sweep figures are integrated from.
+enum Bundle {
+    /// The on-axis point: the report's rotationally symmetric rings, converged at the view plane.
+    OnAxis(SpotFigures),
+    /// The off-axis point: a Gauss polar grid of skew rays.
+    OffAxis(Quadrature),
+}
+
 /// Where the off-axis point's figures come from: Gauss quadrature over the pupil, doubled from 6 rings by
 /// 12 arms until the RMS radius at the plane `z` settles to 1e-9 of itself or 1e-12 mm (at most 24 × 48).
 fn off_axis_quadrature(seq: &Sequence, object: Object, pupils: &Pupils, z: f64) -> Option<Quadrature> {
@@ -446,7 +454,7 @@ impl Views {
             let p = primary.pupils.as_ref()?;
             lumenrail_optics::sampling::SkewAimer::new(&primary.seq, object, p, point.fraction())
                 .ok()
-                .and_then(|a| lumenrail_optics::skew::trace(&primary.seq, a.chief_ray()).ok())
+                .and_then(|a| lumenrail_optics::skew::trace_with(&primary.seq, a.chief_ray(), false).ok())
                 .map(|r| r.at_plane(plane_at_mm).1)
         };
         let off_axis = match bench.object {
@@ -458,18 +466,15 @@ impl Views {
             let reference = chief_reference(point).unwrap_or(0.0);
             for c in &colours {
                 let Some(p) = &c.pupils else { continue };
-                let w = c.wavelength_nm;
-                let quad = match point {
-                    Point::OnAxis => None,
-                    Point::OffAxis => off_axis_quadrature(&c.seq, object, p, plane_at_mm),
+                if let Some(f) = fan_series(&c.seq, object, p, point, plane_at_mm, reference) {
+                    fan.series.push(f);
+                }
+                let bundle = match point {
+                    Point::OnAxis => spot_figures(&c.seq, object, p, &[plane_at_mm]).ok().map(Bundle::OnAxis),
+                    Point::OffAxis => off_axis_quadrature(&c.seq, object, p, plane_at_mm).map(Bundle::OffAxis),
                 };
-                if let Some(mut s) = spot_series(&c.seq, object, p, point, &display_grid, plane_at_mm, quad.as_ref()) {
-                    // The on-axis figures come from the rotationally symmetric quadrature the report uses.
-                    if point == Point::OnAxis
-                        && let Ok(f) = spot_figures(&c.seq, object, p, &[plane_at_mm])
-                    {
-                        (s.rms_mm, s.geometric_mm) = (f.planes[0].1, f.planes[0].2);
-                    }
+                let Some(bundle) = bundle else { continue };
+                if let Some(mut s) = spot_series(&c.seq, object, p, point, &display_grid, plane_at_mm, &bundle) {
                     if std::ptr::eq(c, primary) {
                         // The off-axis share is the report's; the on-axis one is a single arm's.
                         s.transmission = match point {
@@ -479,11 +484,8 @@ impl Views {
                     }
                     spot.series.push(s);
                 }
-                if let Some(f) = fan_series(&c.seq, object, p, point, plane_at_mm, reference) {
-                    fan.series.push(f);
-                }
-                if let Some(s) = sweep_series(&c.seq, object, p, point, &sweep_planes, plane_at_mm, quad.as_ref()) {
-                    sweep.series.push(SweepSeries { wavelength_nm: w, ..s });
+                if let Some(s) = sweep_series(&c.seq, object, p, point, &sweep_planes, plane_at_mm, &bundle) {
+                    sweep.series.push(s);
                 }
             }
         }
@@ -606,7 +608,7 @@ fn spot_series(
     point: Point,
     grid: &[PupilSample],
     z: f64,
-    quad: Option<&Quadrature>,
+    bundle: &Bundle,
 ) -> Option<SpotSeries> {
     let traced = trace_grid(seq, object, pupils, point.fraction(), grid).ok()?;
     let rays: Vec<SpotRay> = traced
@@ -617,14 +619,15 @@ fn spot_series(
             SpotRay { pupil: (p.px, p.py), weight: p.weight, x_mm, y_mm }
         })
         .collect();
-    let (centroid, rms_mm) = match point {
-        Point::OnAxis => ((0.0, 0.0), 0.0),
-        Point::OffAxis => {
-            let (cx, cy, rms) = weighted_spot(&quad?.0, z);
-            ((cx, cy), rms)
+    let (centroid, rms_mm, geometric_mm) = match bundle {
+        // On axis the centroid is on the axis, and the figures are the report's rings'.
+        Bundle::OnAxis(f) => ((0.0, 0.0), f.planes[0].1, f.planes[0].2),
+        Bundle::OffAxis((quad, _)) => {
+            let (cx, cy, rms) = weighted_spot(quad, z);
+            let geometric = rays.iter().map(|r| (r.x_mm - cx).hypot(r.y_mm - cy)).fold(0.0, f64::max);
+            ((cx, cy), rms, geometric)
         }
     };
-    let geometric_mm = rays.iter().map(|r| (r.x_mm - centroid.0).hypot(r.y_mm - centroid.1)).fold(0.0, f64::max);
     Some(SpotSeries {
         point,
         wavelength_nm: seq.wavelength_nm,
@@ -694,17 +697,15 @@ fn sweep_series(
     point: Point,
     planes: &[f64],
     view_plane: f64,
-    quad: Option<&Quadrature>,
+    bundle: &Bundle,
 ) -> Option<SweepSeries> {
-    let (samples, best) = match point {
-        Point::OnAxis => {
-            let figures = spot_figures(seq, object, pupils, &[]).ok()?;
+    let (samples, best) = match bundle {
+        Bundle::OnAxis(figures) => {
             let spot = AxialSpot::trace(seq, object, pupils, figures.rings).ok()?;
             let samples = planes.iter().map(|&z| (z, spot.rms_radius_at(z))).collect();
             (samples, (figures.best_focus_at_mm?, figures.best_rms_mm?))
         }
-        Point::OffAxis => {
-            let (rays, _) = quad?;
+        Bundle::OffAxis((rays, _)) => {
             let m = Moments::of(rays, view_plane);
             let samples = planes.iter().map(|&z| (z, m.rms_at(z))).collect();
             let z = m.best_focus()?;

@@ -190,7 +190,7 @@ fn a_vignetted_off_axis_point_keeps_its_spot_and_field_figures() {
     let cut = open.replace("thickness_mm: 4.0, diameter_mm: 24.0", "thickness_mm: 4.0, diameter_mm: 12.0");
     let (r, v) = views(&bench(&cut));
     assert!(r.off_axis_transmission.unwrap() < 0.5);
-    let spot = v.spot.unwrap();
+    let spot = v.spot.clone().unwrap();
     let off: Vec<_> = spot.series.iter().filter(|s| s.point == Point::OffAxis).collect();
     assert_eq!(off.len(), 3);
     assert!(off.iter().all(|s| s.lost > 0 && s.rays.len() > 10 && s.rms_mm > 0.0), "{:?}", v.notes);
@@ -203,6 +203,15 @@ fn a_vignetted_off_axis_point_keeps_its_spot_and_field_figures() {
     let on = spot.series.iter().find(|s| s.point == Point::OnAxis && s.transmission.is_some()).unwrap();
     assert_eq!(on.transmission, Some(1.0));
     let (_, wide) = views(&bench(&open));
+    // The fans keep the (vignetted) chief ray as their reference: every ray that passes the cut rim has the
+    // error it has with the rim opened up.
+    let fan_of = |v: &Views| v.fan.clone().unwrap().series.into_iter().find(|s| s.point == Point::OffAxis).unwrap();
+    let (fan_cut, fan_open) = (fan_of(&v), fan_of(&wide));
+    assert!(!fan_cut.tangential.is_empty() && fan_cut.tangential.len() < fan_open.tangential.len());
+    for (py, e) in &fan_cut.tangential {
+        let (_, e_open) = fan_open.tangential.iter().find(|(q, _)| q == py).unwrap();
+        assert!((e - e_open).abs() < 1e-12, "py {py}: {e} vs {e_open}");
+    }
     let (f_cut, f_open) = (v.field.unwrap(), wide.field.unwrap());
     assert_eq!(f_cut.points.len(), f_open.points.len());
     for (a, b) in f_cut.points.iter().zip(&f_open.points) {
