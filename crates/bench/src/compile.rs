@@ -27,6 +27,9 @@ pub struct Compiled {
     pub truncated: bool,
     /// The direction of travel in the final space: +1 or −1.
     pub final_direction: f64,
+    /// Each time the light crosses a screen, in path order: (the screen's index in `bench.parts`, how many
+    /// surfaces the light has met before it).
+    pub screen_crossings: Vec<(usize, usize)>,
 }
 
 /// A material name that is not in the library, with the nearest names.
@@ -110,6 +113,7 @@ pub fn compile(bench: &Bench) -> Result<Compiled, UnknownMaterial> {
     let mut reflections = 0;
     let mut truncated = false;
     let mut first_pass = true;
+    let mut screen_crossings = Vec::new();
     loop {
         let ahead: Vec<usize> = if dir > 0.0 {
             order
@@ -124,6 +128,9 @@ pub fn compile(bench: &Bench) -> Result<Compiled, UnknownMaterial> {
         let mut turned = None;
         for i in ahead {
             let part = &bench.parts[i];
+            if matches!(part.kind, PartKind::Screen { .. }) {
+                screen_crossings.push((i, surfaces.len()));
+            }
             let semi = 0.5 * part.kind.diameter_mm();
             let mut part_faces = faces(&part.kind, part.at_mm)?;
             if dir < 0.0 {
@@ -162,6 +169,7 @@ pub fn compile(bench: &Bench) -> Result<Compiled, UnknownMaterial> {
         object: object(&bench.object),
         truncated,
         final_direction: dir,
+        screen_crossings,
     })
 }
 

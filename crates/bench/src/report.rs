@@ -5,11 +5,13 @@
 use crate::compile::{self, Compiled};
 use crate::model::{Bench, ObjectSpec, PartKind};
 use crate::validate::{Severity, validate};
-use lumenrail_optics::analysis::{Analysis, Request, analyse};
+use lumenrail_optics::analysis::{AIRY_FIRST_ZERO, Analysis, Request, analyse};
 use lumenrail_optics::field::{chief_height_at, field_sample};
 use lumenrail_optics::paraxial::Object;
 use lumenrail_optics::pupil::Pupils;
 use lumenrail_optics::pupil::{PupilError, StopAt};
+use lumenrail_optics::spot::spot_figures;
+use lumenrail_optics::system::System;
 
 use lumenrail_optics::seidel::SeidelTerms;
 use lumenrail_optics::spot::SpotError;
@@ -85,6 +87,9 @@ pub struct ScreenFigures {
     pub part: String,
     /// Its rail position.
     pub at_mm: f64,
+    /// Whether the light reaches it after its last part (false: an intermediate screen, whose figures are
+    /// those of the light that has crossed only the parts before it).
+    pub after_last_part: bool,
     /// RMS spot radius, µm.
     pub rms_spot_um: Option<f64>,
     /// Radius that holds every ray, µm.
@@ -401,6 +406,7 @@ impl Report {
             let mut fig = ScreenFigures {
                 part: p.name.clone(),
                 at_mm: p.at_mm,
+                after_last_part: in_final_space,
                 rms_spot_um: None,
                 geometric_spot_um: None,
                 best_focus_at_mm: None,
@@ -409,10 +415,7 @@ impl Report {
                 rms_over_airy: None,
             };
             if !in_final_space {
-                self.warnings.push(format!(
-                    "screen \"{}\" is crossed before the light meets its last part; spot figures are given for screens after it",
-                    p.name
-                ));
+                self.intermediate_screen(bench, compiled, i, &mut fig);
             } else if let Some(s) = spot {
                 let (_, rms, geo) = s.planes[k];
                 fig.rms_spot_um = Some(um(rms));
@@ -439,6 +442,41 @@ impl Report {
         if matches!(bench.object, ObjectSpec::Distant { .. }) && a.first_order.is_some_and(|f| f.power_per_mm > 0.0) {
             self.warnings.push("caution: a converging bench aimed at the sun or a strong lamp focuses enough light to burn skin and eyes and to start fires".into());
         }
+    }
+
+    /// Spot figures at a screen the light crosses before its last part: the light there has met only the
+    /// surfaces before the crossing, so they are the figures of that shorter system (its own stop, its own
+    /// working f-number for the Airy radius).
+    fn intermediate_screen(&mut self, bench: &Bench, compiled: &Compiled, i: usize, fig: &mut ScreenFigures) {
+        let name = &bench.parts[i].name;
+        let before = compiled.screen_crossings.iter().rev().find(|(part, _)| *part == i).map(|&(_, k)| k);
+        let Some(k) = before.filter(|&k| k > 0) else {
+            self.warnings.push(format!("screen \"{name}\" is crossed before the light meets any part"));
+            return;
+        };
+        let sub = System {
+            object_medium: compiled.system.object_medium.clone(),
+            surfaces: compiled.system.surfaces[..k].to_vec(),
+        };
+        let figures = sub.at(self.primary_wavelength_nm).ok().and_then(|seq| {
+            let pupils = Pupils::find(&seq, &compiled.object).ok()?;
+            let s = spot_figures(&seq, compiled.object, &pupils, &[fig.at_mm]).ok()?;
+            let slope = pupils.image_space_marginal_slope(&seq);
+            let nu = (seq.steps.last()?.n_after * slope).abs();
+            let airy_um = (nu > 0.0).then(|| AIRY_FIRST_ZERO * seq.wavelength_nm * 1e-6 / (2.0 * nu) * 1e3);
+            Some((s, airy_um))
+        });
+        let Some((s, airy_um)) = figures else {
+            self.warnings.push(format!("screen \"{name}\": the light that reaches it cannot be traced"));
+            return;
+        };
+        let (_, rms, geo) = s.planes[0];
+        fig.rms_spot_um = Some(um(rms));
+        fig.geometric_spot_um = Some(um(geo));
+        fig.best_focus_at_mm = s.best_focus_at_mm;
+        fig.best_rms_spot_um = s.best_rms_mm.map(um);
+        fig.move_to_best_focus_mm = s.best_focus_at_mm.map(|z| z - fig.at_mm);
+        fig.rms_over_airy = airy_um.filter(|a| *a > 0.0).map(|a| um(rms) / a);
     }
 
     fn field_figures(compiled: &Compiled, a: &Analysis) -> Option<FieldFigures> {

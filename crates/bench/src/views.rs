@@ -580,8 +580,9 @@ impl Views {
 /// The rail position and label of the spot and fan views' plane.
 fn choose_plane(bench: &Bench, compiled: &Compiled, report: &Report, plane: &Plane, best: f64) -> (f64, String) {
     let last_z = compiled.system.surfaces.last().map_or(0.0, |s| s.vertex_z_mm);
-    let screen_after =
-        |name: &str| report.screens.iter().find(|s| s.part == name && s.rms_spot_um.is_some()).map(|s| s.at_mm);
+    let screen_after = |name: &str| {
+        report.screens.iter().find(|s| s.part == name && s.after_last_part && s.rms_spot_um.is_some()).map(|s| s.at_mm)
+    };
     match plane {
         Plane::Screen(name) => {
             if let Some(z) = screen_after(name) {

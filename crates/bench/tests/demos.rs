@@ -104,6 +104,10 @@ fn unit_relay_has_an_inverted_intermediate_and_an_erect_final_image() {
     let area = lens / (std::f64::consts::PI * r0 * r0);
     assert!(close(r.off_axis_area_transmission.unwrap(), area, 1e-8), "{:?} vs {area}", r.off_axis_area_transmission);
     assert!(r.warnings.iter().any(|w| w.contains("vignetting")));
+    // The field screen sits at the intermediate image: relay A alone images the point perfectly there.
+    let field = r.screens.iter().find(|s| s.part == "Field screen").unwrap();
+    assert!(!field.after_last_part && field.rms_spot_um.unwrap() < 1e-9);
+    assert!(close(field.best_focus_at_mm.unwrap(), 200.0, 1e-12));
 }
 
 #[test]

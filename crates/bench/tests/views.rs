@@ -70,7 +70,7 @@ fn spot_and_sweep_agree_with_the_report() {
     for name in ["one-lens-screen", "plano-convex-curved-first", "colour-singlet", "colour-achromat", "unit-relay"] {
         let b = bench(find(name).unwrap().text);
         let (r, v) = views(&b);
-        let screen = r.screens.iter().find(|s| s.rms_spot_um.is_some()).unwrap();
+        let screen = r.screens.iter().find(|s| s.after_last_part && s.rms_spot_um.is_some()).unwrap();
         let spot = v.spot.as_ref().unwrap();
         assert!(spot.plane_label.contains(&screen.part), "{name}: {}", spot.plane_label);
         let primary = r.primary_wavelength_nm;

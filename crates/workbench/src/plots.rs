@@ -47,7 +47,7 @@ impl Workbench {
         if request.plane == Plane::Auto
             && let Some(part) = self.selected.and_then(|i| self.bench.parts.get(i))
             && matches!(part.kind, PartKind::Screen { .. })
-            && self.report.screens.iter().any(|s| s.part == part.name && s.rms_spot_um.is_some())
+            && self.report.screens.iter().any(|s| s.part == part.name && s.after_last_part && s.rms_spot_um.is_some())
         {
             request.plane = Plane::Screen(part.name.clone());
         }
@@ -365,8 +365,13 @@ pub(crate) fn panel_ui(wb: &mut Workbench, ui: &mut egui::Ui) {
             ui.selectable_value(&mut wb.views.tab, kind, kind.word());
         }
         ui.separator();
-        let screens: Vec<String> =
-            wb.report.screens.iter().filter(|s| s.rms_spot_um.is_some()).map(|s| s.part.clone()).collect();
+        let screens: Vec<String> = wb
+            .report
+            .screens
+            .iter()
+            .filter(|s| s.after_last_part && s.rms_spot_um.is_some())
+            .map(|s| s.part.clone())
+            .collect();
         let label = match &wb.views.request.plane {
             Plane::Auto => "automatic".to_string(),
             Plane::Screen(n) => n.clone(),
