@@ -91,7 +91,7 @@ impl RayBatch {
 pub fn trace_batch(seq: &Sequence, batch: &mut RayBatch) {
     #[cfg(target_arch = "x86_64")]
     {
-        if std::arch::is_x86_feature_detected!("avx2") && std::arch::is_x86_feature_detected!("fma") {
+        if crate::simd::has_avx2_fma() {
             // SAFETY: the processor has just been checked for AVX2 and FMA.
             unsafe { trace_batch_avx2(seq, batch) };
             return;

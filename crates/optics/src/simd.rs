@@ -4,6 +4,12 @@
 
 use std::ops::{Add, BitAnd, BitOr, Div, Mul, Neg, Not, Sub};
 
+/// Whether this processor runs the four-lane AVX2 + FMA loops (checked once, then cached by std).
+#[cfg(target_arch = "x86_64")]
+pub(crate) fn has_avx2_fma() -> bool {
+    std::arch::is_x86_feature_detected!("avx2") && std::arch::is_x86_feature_detected!("fma")
+}
+
 /// A vector of f64 lanes with lane-wise arithmetic, comparisons and selection.
 pub(crate) trait Lane:
     Copy + Add<Output = Self> + Sub<Output = Self> + Mul<Output = Self> + Div<Output = Self> + Neg<Output = Self>

@@ -203,7 +203,7 @@ impl SkewBatch {
 pub fn trace_skew_batch(seq: &Sequence, batch: &mut SkewBatch) {
     #[cfg(target_arch = "x86_64")]
     {
-        if std::arch::is_x86_feature_detected!("avx2") && std::arch::is_x86_feature_detected!("fma") {
+        if crate::simd::has_avx2_fma() {
             // SAFETY: the processor has just been checked for AVX2 and FMA.
             unsafe { trace_skew_batch_avx2(seq, batch) };
             return;
