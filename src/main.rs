@@ -62,8 +62,10 @@ enum Command {
         /// (default: the first screen after the last part, else best focus).
         #[arg(long)]
         plane: Option<String>,
-        /// The spot diagram's pupil grid.
-        #[arg(long, default_value = "hexapolar", value_parser = ["hexapolar", "square", "polar"])]
+        /// The spot diagram's pupil pattern: `rings` (6 rings about the centre, 127 rays), `grid` (15
+        /// across, 177 rays) or `gauss-rings` (Gauss rings 6 × 12, 72 rays, whose weights integrate the
+        /// pupil's area exactly).
+        #[arg(long, default_value = "rings", value_parser = ["rings", "grid", "gauss-rings"])]
         grid: String,
     },
 }
@@ -166,16 +168,16 @@ fn export(
         },
     };
     let grid = match grid {
-        "square" => Grid::Square { across: 15 },
-        "polar" => Grid::Polar { rings: 6, arms: 12 },
-        _ => Grid::Hexapolar { rings: 6 },
+        "grid" => Grid::Grid { across: 15 },
+        "gauss-rings" => Grid::GaussRings { rings: 6, arms: 12 },
+        _ => Grid::Rings { rings: 6 },
     };
-    let report = Report::of(bench);
-    if let Some(why) = &report.trace_failure {
+    let evaluation = lumenrail_bench::evaluation::Evaluation::of(bench);
+    if let Some(why) = &evaluation.report.trace_failure {
         eprintln!("{}: cannot trace as asked: {why}", path.display());
         return ExitCode::from(1);
     }
-    let views = Views::of(bench, &report, &ViewRequest { plane, grid });
+    let views = Views::only(&evaluation, &ViewRequest { plane, grid }, &[kind]);
     for n in &views.notes {
         eprintln!("{}: {n}", path.display());
     }

@@ -275,7 +275,7 @@ fn help_reads_well_and_carries_the_safety_caution() {
 }
 
 /// `lumenrail export` writes a view's CSV (header with units, one row per ray) and its PNG without a
-/// window. A script recomputes the report's on-axis RMS spot radius from the Gauss-polar spot CSV:
+/// window. A script recomputes the report's on-axis RMS spot radius from the Gauss-rings spot CSV:
 /// Σw(x² + y²)/Σw over the on-axis rows at the primary wavelength. Six Gauss rings integrate the on-axis
 /// aberration polynomial through degree 11 in ρ², so the 6-ring grid meets the report's converged figure
 /// to 1e-9 relative (measured: 3.5e-12).
@@ -289,7 +289,7 @@ fn export_writes_csv_and_png_a_script_can_use() {
         "--view",
         "spot",
         "--grid",
-        "polar",
+        "gauss-rings",
         "--csv",
         csv.to_str().unwrap(),
         "--png",

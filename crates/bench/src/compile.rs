@@ -27,9 +27,25 @@ pub struct Compiled {
     pub truncated: bool,
     /// The direction of travel in the final space: +1 or −1.
     pub final_direction: f64,
-    /// Each time the light crosses a screen, in path order: (the screen's index in `bench.parts`, how many
-    /// surfaces the light has met before it).
-    pub screen_crossings: Vec<(usize, usize)>,
+    /// Each time the light crosses a screen, in path order.
+    pub screen_crossings: Vec<ScreenCrossing>,
+}
+
+/// One crossing of a screen's plane by the light.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub struct ScreenCrossing {
+    /// The screen's index in `bench.parts`.
+    pub part: usize,
+    /// How many surfaces the light has met before it.
+    pub surfaces_before: usize,
+}
+
+impl Compiled {
+    /// How many surfaces the light has met when it crosses screen `part` for the last time (`None`: it
+    /// never does).
+    pub fn last_crossing(&self, part: usize) -> Option<usize> {
+        self.screen_crossings.iter().rev().find(|c| c.part == part).map(|c| c.surfaces_before)
+    }
 }
 
 /// A material name that is not in the library, with the nearest names.
@@ -100,6 +116,7 @@ fn faces(kind: &PartKind, at_mm: f64) -> Result<Vec<Face>, UnknownMaterial> {
 /// Compiles `bench` along its light path. Fails only on an unknown material name; every other check is
 /// [`crate::validate`]'s.
 pub fn compile(bench: &Bench) -> Result<Compiled, UnknownMaterial> {
+    crate::evaluation::count_compilation();
     let order = bench.rail_order();
     let mut surfaces = Vec::new();
     let start_mm = match bench.object {
@@ -129,7 +146,7 @@ pub fn compile(bench: &Bench) -> Result<Compiled, UnknownMaterial> {
         for i in ahead {
             let part = &bench.parts[i];
             if matches!(part.kind, PartKind::Screen { .. }) {
-                screen_crossings.push((i, surfaces.len()));
+                screen_crossings.push(ScreenCrossing { part: i, surfaces_before: surfaces.len() });
             }
             let semi = 0.5 * part.kind.diameter_mm();
             let mut part_faces = faces(&part.kind, part.at_mm)?;

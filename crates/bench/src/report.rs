@@ -3,16 +3,12 @@
 //! every export read this same type.
 
 use crate::compile::{self, Compiled};
-use crate::model::{Bench, ObjectSpec, PartKind};
-use crate::validate::{Severity, validate};
-use lumenrail_optics::analysis::{AIRY_FIRST_ZERO, Analysis, Request, analyse};
-use lumenrail_optics::field::{chief_height_at, field_sample};
-use lumenrail_optics::paraxial::Object;
-use lumenrail_optics::pupil::Pupils;
+use crate::evaluation::{Evaluation, Traced};
+use crate::model::{Bench, ObjectSpec};
+use crate::validate::{Finding, Severity};
+use lumenrail_optics::analysis::Analysis;
+pub use lumenrail_optics::analysis::FieldFigures;
 use lumenrail_optics::pupil::{PupilError, StopAt};
-use lumenrail_optics::spot::spot_figures;
-use lumenrail_optics::system::System;
-
 use lumenrail_optics::seidel::SeidelTerms;
 use lumenrail_optics::spot::SpotError;
 use lumenrail_optics::trace::RayError;
@@ -24,9 +20,11 @@ use std::fmt::Write as _;
 pub struct FirstOrderFigures {
     /// Effective focal length (null when afocal).
     pub efl_mm: Option<f64>,
-    /// Back focal length, from the last vertex along the light's final direction.
+    /// Back focal length, from the last lens or mirror vertex the light meets to the back focal point,
+    /// along the light's final direction (an iris after the optics does not count).
     pub bfl_mm: Option<f64>,
-    /// Front focal length, from the front focal point to the first vertex.
+    /// Front focal length, from the front focal point to the first lens or mirror vertex the light meets
+    /// (an iris before the optics does not count).
     pub ffl_mm: Option<f64>,
     /// Front focal point.
     pub front_focus_at_mm: Option<f64>,
@@ -70,8 +68,12 @@ pub struct ImageFigures {
     pub after_part: String,
     /// Rail position (null: at infinity).
     pub at_mm: Option<f64>,
-    /// Whether the light really converges to it.
+    /// Whether the light converges to it in its direction of travel (irises and see-through screens on
+    /// the way do not matter).
     pub real: bool,
+    /// A real image that the next imaging part meets before the light converges: that part's name (the
+    /// image is a virtual object for it).
+    pub intercepted_by: Option<String>,
     /// Whether it is upright.
     pub erect: bool,
     /// Lateral magnification (null for a distant object or an image at infinity).
@@ -104,6 +106,19 @@ pub struct ScreenFigures {
     pub rms_over_airy: Option<f64>,
 }
 
+impl ScreenFigures {
+    /// Takes the spot at plane `k` of `s`, with the Airy radius of the light that forms it.
+    fn fill(&mut self, s: &lumenrail_optics::spot::SpotFigures, k: usize, airy_um: Option<f64>) {
+        let plane = s.planes[k];
+        self.rms_spot_um = Some(um(plane.rms_mm));
+        self.geometric_spot_um = Some(um(plane.geometric_mm));
+        self.best_focus_at_mm = s.best_focus_at_mm;
+        self.best_rms_spot_um = s.best_rms_mm.map(um);
+        self.move_to_best_focus_mm = s.best_focus_at_mm.map(|z| z - self.at_mm);
+        self.rms_over_airy = airy_um.filter(|a| *a > 0.0).map(|a| um(plane.rms_mm) / a);
+    }
+}
+
 /// Aberration and image-quality figures.
 #[derive(Debug, Clone, Default, PartialEq, Serialize)]
 pub struct Aberrations {
@@ -121,25 +136,6 @@ pub struct Aberrations {
     pub depth_of_focus_mm: Option<f64>,
     /// Seidel sums S_I..S_V, C_I, C_II (mm; Welford).
     pub seidel: Option<SeidelTerms>,
-}
-
-/// Field figures of the off-axis object point, from real rays through the real stop.
-#[derive(Debug, Clone, PartialEq, Serialize)]
-pub struct FieldFigures {
-    /// Tangential focus of the thin bundle about the real chief ray, less the paraxial image, mm along
-    /// the light (field curvature).
-    pub tangential_focus_mm: f64,
-    /// Sagittal focus less the paraxial image, mm along the light.
-    pub sagittal_focus_mm: f64,
-    /// Tangential less sagittal focus, mm (astigmatism).
-    pub astigmatism_mm: f64,
-    /// Real chief ray height at the paraxial image plane, mm.
-    pub chief_height_mm: f64,
-    /// (real − paraxial)/paraxial image height, %.
-    pub distortion_percent: Option<f64>,
-    /// Real chief ray height at the paraxial image plane at the longest wavelength less at the shortest,
-    /// mm (lateral colour).
-    pub lateral_colour_mm: Option<f64>,
 }
 
 /// Figures of an afocal bench (telescope, beam expander).
@@ -160,6 +156,53 @@ pub struct ColourFocus {
     pub wavelength_nm: f64,
     /// Final image position (null: at infinity).
     pub image_at_mm: Option<f64>,
+}
+
+/// What a warning is about.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "kebab-case")]
+pub enum WarningKind {
+    /// The layout: carriers that overlap and other findings of validation.
+    Layout,
+    /// Mirrors send the light back and forth; it is followed for a limited number of reflections.
+    Reflections,
+    /// Nothing limits the light, or the stop cannot be placed.
+    Stop,
+    /// The off-axis point loses part of its pupil.
+    Vignetting,
+    /// Part of the on-axis light is blocked before the image.
+    Blocked,
+    /// The image does not fit its screen.
+    ImageSize,
+    /// A screen's figures cannot be given.
+    Screen,
+    /// A safety caution.
+    Caution,
+}
+
+/// Something in a bench that needs a look: what kind, which part and field it concerns, and what it says.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct Warning {
+    /// What the warning is about.
+    pub kind: WarningKind,
+    /// The part concerned, by name (`None`: the bench as a whole).
+    pub part: Option<String>,
+    /// The field concerned, as spelled in the bench file.
+    pub field: Option<&'static str>,
+    /// What it says, in plain words.
+    pub message: String,
+}
+
+impl std::fmt::Display for Warning {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        f.write_str(&self.message)
+    }
+}
+
+impl Warning {
+    fn new(kind: WarningKind, part: Option<&str>, message: String) -> Warning {
+        Warning { kind, part: part.map(str::to_string), field: None, message }
+    }
 }
 
 /// Every figure of a bench.
@@ -191,7 +234,7 @@ pub struct Report {
     /// Final paraxial image position at every wavelength.
     pub colour: Vec<ColourFocus>,
     /// Everything that needs a look.
-    pub warnings: Vec<String>,
+    pub warnings: Vec<Warning>,
     /// Why the bench cannot be traced as asked (null when it can).
     pub trace_failure: Option<String>,
 }
@@ -208,9 +251,20 @@ fn um(mm: f64) -> f64 {
 }
 
 impl Report {
-    /// Computes the report of a bench. A bench with validation errors gives a report whose
-    /// `trace_failure` lists them.
+    /// The report of a bench: its [`Evaluation`]'s projection (use the evaluation when the views or the
+    /// rail are wanted too, so that nothing is evaluated twice).
     pub fn of(bench: &Bench) -> Report {
+        Evaluation::of(bench).report
+    }
+
+    /// Projects an evaluation's figures into the report; computes nothing.
+    pub(crate) fn project(
+        bench: &Bench,
+        findings: &[Finding],
+        traced: Option<&Traced>,
+        screens: &[usize],
+        failure: Option<String>,
+    ) -> Report {
         let mut report = Report {
             title: bench.title.clone(),
             primary_wavelength_nm: bench.primary_wavelength_nm().filter(|w| w.is_finite()).unwrap_or(0.0),
@@ -225,49 +279,27 @@ impl Report {
             field: None,
             colour: Vec::new(),
             warnings: Vec::new(),
-            trace_failure: None,
+            trace_failure: failure,
         };
-        let findings = validate(bench);
-        let errors: Vec<String> =
-            findings.iter().filter(|f| f.severity == Severity::Error).map(|f| f.message.clone()).collect();
-        report.warnings.extend(findings.iter().filter(|f| f.severity == Severity::Warning).map(|f| f.message.clone()));
-        if !errors.is_empty() {
-            report.trace_failure = Some(errors.join("; "));
-            return report;
-        }
-        let compiled = match compile::compile(bench) {
-            Ok(c) => c,
-            Err(e) => {
-                report.trace_failure = Some(format!("unknown material \"{}\"", e.name));
-                return report;
+        report.warnings.extend(findings.iter().filter(|f| f.severity == Severity::Warning).map(|f| Warning {
+            kind: WarningKind::Layout,
+            part: f.part.map(|i| bench.parts[i].name.clone()),
+            field: f.field,
+            message: f.message.clone(),
+        }));
+        if let Some(t) = traced {
+            if t.compiled.truncated {
+                report.warnings.push(Warning::new(
+                    WarningKind::Reflections,
+                    None,
+                    format!(
+                        "the light is reflected back and forth between mirrors; it is followed for {} reflections only",
+                        compile::MAX_REFLECTIONS
+                    ),
+                ));
             }
-        };
-        if compiled.truncated {
-            report.warnings.push(format!(
-                "the light is reflected back and forth between mirrors; it is followed for {} reflections only",
-                compile::MAX_REFLECTIONS
-            ));
+            report.fill(bench, &t.compiled, &t.analysis, screens);
         }
-        let screens: Vec<usize> = bench
-            .rail_order()
-            .into_iter()
-            .filter(|&i| matches!(bench.parts[i].kind, PartKind::Screen { .. }))
-            .collect();
-        let request = Request {
-            object: compiled.object,
-            wavelengths_nm: bench.wavelengths_nm.clone(),
-            primary: bench.primary_wavelength,
-            planes_mm: screens.iter().map(|&i| bench.parts[i].at_mm).collect(),
-            vignetting: true,
-        };
-        let analysis = match analyse(&compiled.system, &request) {
-            Ok(a) => a,
-            Err(e) => {
-                report.trace_failure = Some(e.to_string());
-                return report;
-            }
-        };
-        report.fill(bench, &compiled, &analysis, &screens);
         report
     }
 
@@ -294,10 +326,6 @@ impl Report {
 
     fn fill(&mut self, bench: &Bench, compiled: &Compiled, a: &Analysis, screens: &[usize]) {
         let surfaces = &compiled.system.surfaces;
-        if surfaces.is_empty() {
-            self.trace_failure = Some("no part bends or limits the light (a bench of screens only)".into());
-            return;
-        }
         if let Some(f) = a.first_order {
             self.first_order = FirstOrderFigures {
                 efl_mm: f.efl_mm,
@@ -313,11 +341,12 @@ impl Report {
                 lagrange_invariant_mm: a.lagrange_invariant_mm,
             };
         }
-        for img in &a.images {
+        for img in a.images() {
             self.images.push(ImageFigures {
                 after_part: bench.parts[img.element].name.clone(),
                 at_mm: img.at_mm,
                 real: img.real,
+                intercepted_by: img.intercepted_by.map(|s| Self::part_name(bench, compiled, s)),
                 erect: img.erect,
                 magnification: img.magnification,
                 height_mm: img.height_mm,
@@ -328,7 +357,7 @@ impl Report {
             .iter()
             .map(|c| ColourFocus { wavelength_nm: c.wavelength_nm, image_at_mm: c.image_at_mm })
             .collect();
-        match &a.pupils {
+        match a.pupils() {
             Ok(p) => {
                 let part = match p.stop {
                     StopAt::Beam => "input beam".to_string(),
@@ -343,7 +372,7 @@ impl Report {
                     exit_pupil_diameter_mm: p.exit_pupil_diameter_mm,
                 });
                 if let Some(f) = a.first_order.filter(|f| f.afocal) {
-                    let last = surfaces.last().expect("checked above");
+                    let last = surfaces.last().expect("a traced bench has surfaces");
                     self.afocal = Some(Afocal {
                         angular_magnification: f.angular_magnification.unwrap_or(1.0),
                         exit_pupil_diameter_mm: p.exit_pupil_diameter_mm,
@@ -351,8 +380,10 @@ impl Report {
                     });
                 }
             }
-            Err(PupilError::Unbounded) => self.warnings.push("no aperture limits the light".into()),
-            Err(e) => self.warnings.push(e.to_string()),
+            Err(PupilError::Unbounded) => {
+                self.warnings.push(Warning::new(WarningKind::Stop, None, "no aperture limits the light".into()))
+            }
+            Err(e) => self.warnings.push(Warning::new(WarningKind::Stop, None, e.to_string())),
         }
         let airy_um = a.airy_radius_um;
         self.aberrations = Aberrations {
@@ -375,14 +406,15 @@ impl Report {
             let area = a
                 .off_axis_area_transmission
                 .map_or_else(String::new, |t| format!("{}% of its pupil's area and ", fixed(100.0 * t, 1)));
-            self.warnings.push(format!(
-                "vignetting: {off_axis} keeps {area}{}% of its meridional pupil",
-                fixed(100.0 * line, 1)
+            self.warnings.push(Warning::new(
+                WarningKind::Vignetting,
+                None,
+                format!("vignetting: {off_axis} keeps {area}{}% of its meridional pupil", fixed(100.0 * line, 1)),
             ));
         }
         // Screens: figures for the light's last crossing, which the final rays give when the screen lies in
         // the final space (beyond the last surface, along the final direction).
-        let last = surfaces.last().expect("checked above");
+        let last = surfaces.last().expect("a traced bench has surfaces");
         let spot = match &a.spot {
             Some(Ok(s)) => Some(s),
             Some(Err(e)) => {
@@ -397,10 +429,14 @@ impl Report {
         if let Some(s) = spot
             && s.blocked_share > 0.0
         {
-            self.warnings
-                .push(format!("{:.1}% of the on-axis light is blocked before the image", 100.0 * s.blocked_share));
+            self.warnings.push(Warning::new(
+                WarningKind::Blocked,
+                None,
+                format!("{:.1}% of the on-axis light is blocked before the image", 100.0 * s.blocked_share),
+            ));
         }
-        for (k, &i) in screens.iter().enumerate() {
+        let (mut final_k, mut partial_k) = (0, 0);
+        for &i in screens {
             let p = &bench.parts[i];
             let in_final_space = (p.at_mm - last.vertex_z_mm) * compiled.final_direction >= 0.0;
             let mut fig = ScreenFigures {
@@ -415,102 +451,50 @@ impl Report {
                 rms_over_airy: None,
             };
             if !in_final_space {
-                self.intermediate_screen(bench, compiled, i, &mut fig);
+                let partial = a.partial_spots.get(partial_k).and_then(Option::as_ref);
+                partial_k += 1;
+                if compiled.last_crossing(i).is_none_or(|k| k == 0) {
+                    self.warnings.push(Warning::new(
+                        WarningKind::Screen,
+                        Some(&p.name),
+                        format!("screen \"{}\" is crossed before the light meets any part", p.name),
+                    ));
+                } else if let Some(ps) = partial {
+                    fig.fill(&ps.spot, 0, ps.airy_radius_um);
+                } else {
+                    self.warnings.push(Warning::new(
+                        WarningKind::Screen,
+                        Some(&p.name),
+                        format!("screen \"{}\": the light that reaches it cannot be traced", p.name),
+                    ));
+                }
             } else if let Some(s) = spot {
-                let (_, rms, geo) = s.planes[k];
-                fig.rms_spot_um = Some(um(rms));
-                fig.geometric_spot_um = Some(um(geo));
-                fig.best_focus_at_mm = s.best_focus_at_mm;
-                fig.best_rms_spot_um = s.best_rms_mm.map(um);
-                fig.move_to_best_focus_mm = s.best_focus_at_mm.map(|z| z - p.at_mm);
-                fig.rms_over_airy = airy_um.filter(|a| *a > 0.0).map(|a| um(rms) / a);
+                fig.fill(s, final_k, airy_um);
                 let half = 0.5 * p.kind.diameter_mm();
                 if let Some(h) = self.images.last().and_then(|img| img.height_mm).filter(|h| h.abs() > half)
                     && self.images.last().and_then(|img| img.at_mm).is_some_and(|z| (z - p.at_mm).abs() < 1.0)
                 {
-                    self.warnings.push(format!(
-                        "the image ({:.1} mm tall) does not fit screen \"{}\" ({:.1} mm across)",
-                        2.0 * h.abs(),
-                        p.name,
-                        p.kind.diameter_mm()
+                    self.warnings.push(Warning::new(
+                        WarningKind::ImageSize,
+                        Some(&p.name),
+                        format!(
+                            "the image ({:.1} mm tall) does not fit screen \"{}\" ({:.1} mm across)",
+                            2.0 * h.abs(),
+                            p.name,
+                            p.kind.diameter_mm()
+                        ),
                     ));
                 }
             }
+            if in_final_space {
+                final_k += 1;
+            }
             self.screens.push(fig);
         }
-        self.field = Self::field_figures(compiled, a);
+        self.field = a.field;
         if matches!(bench.object, ObjectSpec::Distant { .. }) && a.first_order.is_some_and(|f| f.power_per_mm > 0.0) {
-            self.warnings.push("caution: a converging bench aimed at the sun or a strong lamp focuses enough light to burn skin and eyes and to start fires".into());
+            self.warnings.push(Warning::new(WarningKind::Caution, None, "caution: a converging bench aimed at the sun or a strong lamp focuses enough light to burn skin and eyes and to start fires".into()));
         }
-    }
-
-    /// Spot figures at a screen the light crosses before its last part: the light there has met only the
-    /// surfaces before the crossing, so they are the figures of that shorter system (its own stop, its own
-    /// working f-number for the Airy radius).
-    fn intermediate_screen(&mut self, bench: &Bench, compiled: &Compiled, i: usize, fig: &mut ScreenFigures) {
-        let name = &bench.parts[i].name;
-        let before = compiled.screen_crossings.iter().rev().find(|(part, _)| *part == i).map(|&(_, k)| k);
-        let Some(k) = before.filter(|&k| k > 0) else {
-            self.warnings.push(format!("screen \"{name}\" is crossed before the light meets any part"));
-            return;
-        };
-        let sub = System {
-            object_medium: compiled.system.object_medium.clone(),
-            surfaces: compiled.system.surfaces[..k].to_vec(),
-        };
-        let figures = sub.at(self.primary_wavelength_nm).ok().and_then(|seq| {
-            let pupils = Pupils::find(&seq, &compiled.object).ok()?;
-            let s = spot_figures(&seq, compiled.object, &pupils, &[fig.at_mm]).ok()?;
-            let slope = pupils.image_space_marginal_slope(&seq);
-            let nu = (seq.steps.last()?.n_after * slope).abs();
-            let airy_um = (nu > 0.0).then(|| AIRY_FIRST_ZERO * seq.wavelength_nm * 1e-6 / (2.0 * nu) * 1e3);
-            Some((s, airy_um))
-        });
-        let Some((s, airy_um)) = figures else {
-            self.warnings.push(format!("screen \"{name}\": the light that reaches it cannot be traced"));
-            return;
-        };
-        let (_, rms, geo) = s.planes[0];
-        fig.rms_spot_um = Some(um(rms));
-        fig.geometric_spot_um = Some(um(geo));
-        fig.best_focus_at_mm = s.best_focus_at_mm;
-        fig.best_rms_spot_um = s.best_rms_mm.map(um);
-        fig.move_to_best_focus_mm = s.best_focus_at_mm.map(|z| z - fig.at_mm);
-        fig.rms_over_airy = airy_um.filter(|a| *a > 0.0).map(|a| um(rms) / a);
-    }
-
-    fn field_figures(compiled: &Compiled, a: &Analysis) -> Option<FieldFigures> {
-        let image = a.images.last()?;
-        let (at, height) = (image.at_mm?, image.height_mm?);
-        let p = a.pupils.as_ref().ok()?;
-        let object = compiled.object;
-        let off_axis = match object {
-            Object::Finite { height_mm, .. } => height_mm,
-            Object::Distant { field_deg, .. } => field_deg,
-        };
-        if off_axis == 0.0 {
-            return None;
-        }
-        let s = field_sample(&a.primary, object, p, 1.0, at, height).ok()?;
-        let chief_at = |w: f64| -> Option<f64> {
-            let seq = compiled.system.at(w).ok()?;
-            let pupils = Pupils::find(&seq, &object).ok()?;
-            chief_height_at(&seq, object, &pupils, 1.0, at).ok()
-        };
-        let (short, long) = a
-            .colour
-            .iter()
-            .fold((f64::INFINITY, f64::NEG_INFINITY), |(lo, hi), c| (lo.min(c.wavelength_nm), hi.max(c.wavelength_nm)));
-        let lateral_colour_mm =
-            if long > short { chief_at(long).zip(chief_at(short)).map(|(l, s)| l - s) } else { None };
-        Some(FieldFigures {
-            tangential_focus_mm: s.tangential_mm,
-            sagittal_focus_mm: s.sagittal_mm,
-            astigmatism_mm: s.tangential_mm - s.sagittal_mm,
-            chief_height_mm: s.chief_height_mm,
-            distortion_percent: s.distortion.map(|d| 100.0 * d),
-            lateral_colour_mm,
-        })
     }
 
     /// Whether the bench traced as asked (no `trace_failure`).
@@ -536,6 +520,7 @@ impl Report {
         let f = &self.first_order;
         let _ = writeln!(t, "\nFirst order (positions on the rail)");
         let _ = writeln!(t, "  EFL {}   BFL {}   FFL {}", mm(f.efl_mm), mm(f.bfl_mm), mm(f.ffl_mm));
+        let _ = writeln!(t, "  (BFL and FFL from the last and first lens or mirror vertex the light meets)");
         let _ = writeln!(t, "  front focus {}   back focus {}", mm(f.front_focus_at_mm), mm(f.back_focus_at_mm));
         let _ = writeln!(t, "  principal planes {} / {}", mm(f.front_principal_at_mm), mm(f.back_principal_at_mm));
         if let Some(n) = f.f_number {
@@ -545,12 +530,11 @@ impl Report {
             let _ = writeln!(t, "\nAperture stop: {} ({:.3} mm)", s.part, s.diameter_mm);
             let _ = writeln!(
                 t,
-                "  entrance pupil {} , {} across",
+                "  entrance pupil {}, {} across",
                 at(s.entrance_pupil_at_mm),
                 mm(s.entrance_pupil_diameter_mm)
             );
-            let _ =
-                writeln!(t, "  exit pupil     {} , {} across", at(s.exit_pupil_at_mm), mm(s.exit_pupil_diameter_mm));
+            let _ = writeln!(t, "  exit pupil     {}, {} across", at(s.exit_pupil_at_mm), mm(s.exit_pupil_diameter_mm));
         }
         if !self.images.is_empty() {
             let _ = writeln!(t, "\nImages");
@@ -560,7 +544,11 @@ impl Report {
                 "after part", "at", "kind", "way up", "magnification"
             );
             for (k, img) in self.images.iter().enumerate() {
-                let last = if k + 1 == self.images.len() { " (final)" } else { "" };
+                let last = if k + 1 == self.images.len() { " (final)".to_string() } else { String::new() };
+                let last = match &img.intercepted_by {
+                    Some(by) => format!("{last}; a real image that \"{by}\" intercepts (a virtual object for it)"),
+                    None => last,
+                };
                 let m = img.magnification.map_or_else(|| "—".to_string(), |m| format!("{m:.5}"));
                 let _ = writeln!(
                     t,
@@ -634,7 +622,7 @@ impl Report {
         if !self.warnings.is_empty() {
             let _ = writeln!(t, "\nWarnings");
             for w in &self.warnings {
-                let _ = writeln!(t, "  - {w}");
+                let _ = writeln!(t, "  - {}", w.message);
             }
         }
         t

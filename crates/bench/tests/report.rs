@@ -46,7 +46,7 @@ fn an_intermediate_screen_shows_the_light_that_reaches_it() {
         assert!((x - y).abs() <= 1e-12 * y.abs(), "{x} vs {y}");
     }
     assert!(a.rms_spot_um.unwrap() > 1.0, "a real blur: {a:?}");
-    assert!(!whole.warnings.iter().any(|w| w.contains("Middle screen")), "{:?}", whole.warnings);
+    assert!(!whole.warnings.iter().any(|w| w.message.contains("Middle screen")), "{:?}", whole.warnings);
     // The end screen still has its own figures, from the whole bench.
     assert!(whole.screens[1].after_last_part && whole.screens[1].rms_spot_um.is_some());
 }

@@ -2,6 +2,7 @@
 #![allow(clippy::float_cmp)] // Wavelengths are matched exactly as the bench lists them; positions are copied, not computed.
 
 use lumenrail_bench::demos::{DEMOS, find};
+use lumenrail_bench::evaluation::Evaluation;
 use lumenrail_bench::file::parse;
 use lumenrail_bench::model::Bench;
 use lumenrail_bench::report::Report;
@@ -12,10 +13,10 @@ fn bench(text: &str) -> Bench {
 }
 
 fn views(b: &Bench) -> (Report, Views) {
-    let r = Report::of(b);
-    assert!(r.traced(), "{:?}", r.trace_failure);
-    let v = Views::of(b, &r, &ViewRequest::default());
-    (r, v)
+    let e = Evaluation::of(b);
+    assert!(e.report.traced(), "{:?}", e.report.trace_failure);
+    let v = Views::of(&e, &ViewRequest::default());
+    (e.report, v)
 }
 
 /// Every number of every view of every demo is finite, and every view that has data exports a CSV whose
@@ -139,9 +140,9 @@ fn a_paraboloid_shows_three_to_one_coma() {
               (name: "Mirror", at_mm: 1500.0, kind: Mirror(surface: Conic(radius: -2000.0, conic: -1.0), diameter_mm: 52.0)),
             ])"#,
     );
-    let r = Report::of(&b);
-    assert!(r.traced(), "{:?}", r.trace_failure);
-    let v = Views::of(&b, &r, &ViewRequest { plane: Plane::At(500.0), ..ViewRequest::default() });
+    let e = Evaluation::of(&b);
+    assert!(e.report.traced(), "{:?}", e.report.trace_failure);
+    let v = Views::of(&e, &ViewRequest { plane: Plane::At(500.0), ..ViewRequest::default() });
     let fan = v.fan.unwrap();
     let off = fan.series.iter().find(|s| s.point == Point::OffAxis).unwrap();
     let ey = |py: f64| off.tangential.iter().find(|(p, _)| (p - py).abs() < 1e-9).unwrap().1;

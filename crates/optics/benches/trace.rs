@@ -132,6 +132,7 @@ fn whole_evaluation(c: &mut Criterion) {
         wavelengths_nm: vec![587.5618],
         primary: 0,
         planes_mm: vec![400.0],
+        partial_planes: Vec::new(),
         vignetting: false,
     };
     c.bench_function("first_order_stop_spot_12_surfaces", |b| {

@@ -4,6 +4,7 @@
 //! This is what a bench's report is computed from. Every figure is a named field; what cannot be computed
 //! is `None` beside a reason, never a NaN.
 
+use crate::field::{chief_height_at, field_sample};
 use crate::paraxial::{self, FirstOrder, Object, ParaxialImage};
 use crate::pupil::{FieldPoint, PupilError, Pupils, meridional_transmission};
 use crate::sampling::pupil_transmission;
@@ -15,6 +16,16 @@ use crate::system::{Sequence, System, SystemError};
 /// (G. B. Airy 1835; Born & Wolf, *Principles of Optics*, sec. 8.5.2), the "1.22 λN" of the trade.
 pub const AIRY_FIRST_ZERO: f64 = 1.219_669_891_266_504_5;
 
+/// A plane that the light crosses before its last surface (an intermediate screen): the figures there are
+/// those of the light that has met only the first `surfaces` surfaces.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct PartialPlane {
+    /// How many surfaces the light has met when it crosses the plane.
+    pub surfaces: usize,
+    /// The plane's rail position, mm.
+    pub at_mm: f64,
+}
+
 /// What to evaluate.
 #[derive(Debug, Clone, PartialEq)]
 pub struct Request {
@@ -24,8 +35,10 @@ pub struct Request {
     pub wavelengths_nm: Vec<f64>,
     /// Index into `wavelengths_nm` of the primary wavelength.
     pub primary: usize,
-    /// Planes (rail positions, mm) at which to give spot figures, such as screens.
+    /// Planes beyond the last surface (rail positions, mm) at which to give spot figures, such as screens.
     pub planes_mm: Vec<f64>,
+    /// Planes crossed before the last surface, at which to give the figures of the light that reaches them.
+    pub partial_planes: Vec<PartialPlane>,
     /// Whether to compute the off-axis point's vignetting, meridional and by area (a few hundred traces).
     pub vignetting: bool,
 }
@@ -60,17 +73,76 @@ pub struct ColourFocus {
     pub image_at_mm: Option<f64>,
 }
 
+/// The system at one of the asked wavelengths: its numbers, its stop and pupils, its paraxial images.
+/// Evaluated once; every figure and view at that wavelength reads it.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Wavelength {
+    /// The sequence at this wavelength.
+    pub seq: Sequence,
+    /// Stop and pupils, or why there are none.
+    pub pupils: Result<Pupils, PupilError>,
+    /// Paraxial images after each imaging element; the last is the final image.
+    pub images: Vec<ParaxialImage>,
+}
+
+impl Wavelength {
+    /// Evaluates `system` at `wavelength_nm` for `object`.
+    pub fn of(system: &System, object: &Object, wavelength_nm: f64) -> Result<Wavelength, SystemError> {
+        Ok(Wavelength::from_sequence(system.at(wavelength_nm)?, object))
+    }
+
+    /// The stop, pupils and images of an evaluated sequence.
+    pub fn from_sequence(seq: Sequence, object: &Object) -> Wavelength {
+        let pupils = Pupils::find(&seq, object);
+        let images = paraxial::images(&seq, object);
+        Wavelength { seq, pupils, images }
+    }
+
+    /// The final paraxial image position (`None`: at infinity, or no imaging part).
+    pub fn final_image_at_mm(&self) -> Option<f64> {
+        self.images.last().and_then(|i| i.at_mm)
+    }
+}
+
+/// Spot figures at a plane crossed before the last surface: the figures of the shorter system the light
+/// has met by then, with its own stop and working f-number.
+#[derive(Debug, Clone, PartialEq)]
+pub struct PartialSpot {
+    /// The spot at the plane (one entry in `planes`) and the shorter system's best focus.
+    pub spot: SpotFigures,
+    /// Airy disk radius for the shorter system's working f-number, µm.
+    pub airy_radius_um: Option<f64>,
+}
+
+/// Field figures of the off-axis object point, from real rays through the real stop.
+#[derive(Debug, Clone, Copy, PartialEq)]
+#[cfg_attr(feature = "serde", derive(serde::Serialize))]
+pub struct FieldFigures {
+    /// Tangential focus of the thin bundle about the real chief ray, less the paraxial image, mm along
+    /// the light (field curvature).
+    pub tangential_focus_mm: f64,
+    /// Sagittal focus less the paraxial image, mm along the light.
+    pub sagittal_focus_mm: f64,
+    /// Tangential less sagittal focus, mm (astigmatism).
+    pub astigmatism_mm: f64,
+    /// Real chief ray height at the paraxial image plane, mm.
+    pub chief_height_mm: f64,
+    /// (real − paraxial)/paraxial image height, %.
+    pub distortion_percent: Option<f64>,
+    /// Real chief ray height at the paraxial image plane at the longest wavelength less at the shortest,
+    /// mm (lateral colour).
+    pub lateral_colour_mm: Option<f64>,
+}
+
 /// Every figure of one evaluation.
 #[derive(Debug, Clone, PartialEq)]
 pub struct Analysis {
-    /// The system at the primary wavelength.
-    pub primary: Sequence,
-    /// First-order properties (`None` without surfaces).
+    /// The system at every asked wavelength, in the order asked.
+    pub wavelengths: Vec<Wavelength>,
+    /// Index of the primary wavelength in `wavelengths`.
+    pub primary: usize,
+    /// First-order properties at the primary wavelength (`None` without a lens or mirror).
     pub first_order: Option<FirstOrder>,
-    /// Paraxial images after each imaging element; the last is the final image.
-    pub images: Vec<ParaxialImage>,
-    /// Stop and pupils, or why there are none.
-    pub pupils: Result<Pupils, PupilError>,
     /// The Lagrange invariant, mm (object height × n × marginal slope form).
     pub lagrange_invariant_mm: Option<f64>,
     /// Final paraxial image position at every wavelength.
@@ -79,6 +151,8 @@ pub struct Analysis {
     pub chromatic_focal_shift_mm: Option<f64>,
     /// Spot figures at the asked planes, or why they cannot be computed.
     pub spot: Option<Result<SpotFigures, SpotError>>,
+    /// Figures at each asked partial plane (`None`: the light that reaches it cannot be traced).
+    pub partial_spots: Vec<Option<PartialSpot>>,
     /// Marginal ray axis crossing minus the paraxial image position, mm.
     pub marginal_lsa_mm: Option<f64>,
     /// Working f-number 1/(2|n'u'|) from the paraxial marginal ray in image space.
@@ -98,50 +172,86 @@ pub struct Analysis {
     /// Share of the off-axis point's pupil area that passes every aperture, from skew rays
     /// ([`crate::sampling::pupil_transmission`]; `None` if not asked or its chief ray cannot be aimed).
     pub off_axis_area_transmission: Option<f64>,
+    /// Field curvature, astigmatism, distortion and lateral colour of the off-axis point (`None` without
+    /// a final image or an off-axis point).
+    pub field: Option<FieldFigures>,
 }
 
-/// Evaluates `system` for `request`.
+impl Analysis {
+    /// The primary wavelength's system, stop and images.
+    pub fn primary(&self) -> &Wavelength {
+        &self.wavelengths[self.primary]
+    }
+
+    /// The primary wavelength's sequence.
+    pub fn seq(&self) -> &Sequence {
+        &self.primary().seq
+    }
+
+    /// The primary wavelength's stop and pupils.
+    pub fn pupils(&self) -> &Result<Pupils, PupilError> {
+        &self.primary().pupils
+    }
+
+    /// The primary wavelength's paraxial images; the last is the final image.
+    pub fn images(&self) -> &[ParaxialImage] {
+        &self.primary().images
+    }
+
+    /// Indices of the shortest and longest wavelengths.
+    pub fn extreme_wavelengths(&self) -> (usize, usize) {
+        let w = |i: &usize| self.wavelengths[*i].seq.wavelength_nm;
+        let all = 0..self.wavelengths.len();
+        let shortest = all.clone().min_by(|a, b| w(a).total_cmp(&w(b))).unwrap_or(0);
+        let longest = all.max_by(|a, b| w(a).total_cmp(&w(b))).unwrap_or(0);
+        (shortest, longest)
+    }
+}
+
+/// Airy radius (µm) and depth of focus (± mm) of a sequence whose image-space paraxial marginal slope is
+/// `u1`, at its wavelength: 1.21967 λ N_w and 2 λ N_w², with N_w = 1/(2|n'u'|).
+fn diffraction_figures(seq: &Sequence, u1: f64) -> Option<(f64, f64, f64)> {
+    let nu1 = (seq.steps.last()?.n_after * u1).abs();
+    (nu1 > 0.0).then(|| {
+        let nw = 1.0 / (2.0 * nu1);
+        let wavelength_mm = seq.wavelength_nm * 1e-6;
+        (nw, AIRY_FIRST_ZERO * wavelength_mm * nw * 1e3, 2.0 * wavelength_mm * nw * nw)
+    })
+}
+
+/// Evaluates `system` for `request`: every wavelength once, then [`analyse_wavelengths`].
 pub fn analyse(system: &System, request: &Request) -> Result<Analysis, AnalysisError> {
-    let count = request.wavelengths_nm.len();
+    let wavelengths = request
+        .wavelengths_nm
+        .iter()
+        .map(|&wavelength_nm| {
+            Wavelength::of(system, &request.object, wavelength_nm)
+                .map_err(|source| AnalysisError::System { wavelength_nm, source })
+        })
+        .collect::<Result<Vec<_>, _>>()?;
+    analyse_wavelengths(wavelengths, request)
+}
+
+/// Every figure of the already evaluated `wavelengths` (one per `request.wavelengths_nm`, in order).
+pub fn analyse_wavelengths(wavelengths: Vec<Wavelength>, request: &Request) -> Result<Analysis, AnalysisError> {
+    let count = wavelengths.len();
     if request.primary >= count {
         return Err(AnalysisError::Primary { primary: request.primary, count });
     }
-    let at =
-        |wavelength_nm: f64| system.at(wavelength_nm).map_err(|source| AnalysisError::System { wavelength_nm, source });
-    let seqs: Vec<Sequence> = request.wavelengths_nm.iter().map(|&w| at(w)).collect::<Result<_, _>>()?;
-    let seq = seqs[request.primary].clone();
     let object = request.object;
-    let first_order = FirstOrder::of(&seq);
-    let images = paraxial::images(&seq, &object);
-    let pupils = Pupils::find(&seq, &object);
-
-    let colour: Vec<ColourFocus> = seqs
+    let colour: Vec<ColourFocus> = wavelengths
         .iter()
-        .map(|s| ColourFocus {
-            wavelength_nm: s.wavelength_nm,
-            image_at_mm: paraxial::images(s, &object).last().and_then(|i| i.at_mm),
-        })
+        .map(|w| ColourFocus { wavelength_nm: w.seq.wavelength_nm, image_at_mm: w.final_image_at_mm() })
         .collect();
-    let shortest = (0..count).min_by(|&a, &b| request.wavelengths_nm[a].total_cmp(&request.wavelengths_nm[b]));
-    let longest = (0..count).max_by(|&a, &b| request.wavelengths_nm[a].total_cmp(&request.wavelengths_nm[b]));
-    let chromatic_focal_shift_mm = match (shortest, longest) {
-        (Some(s), Some(l)) if count > 1 => match (colour[l].image_at_mm, colour[s].image_at_mm) {
-            (Some(zl), Some(zs)) => Some(zl - zs),
-            _ => None,
-        },
-        _ => None,
-    };
-
-    let final_image = images.last().and_then(|i| i.at_mm);
     let mut analysis = Analysis {
-        primary: seq.clone(),
-        first_order,
-        images,
-        pupils: pupils.clone(),
+        first_order: FirstOrder::of(&wavelengths[request.primary].seq),
+        wavelengths,
+        primary: request.primary,
         lagrange_invariant_mm: None,
         colour,
-        chromatic_focal_shift_mm,
+        chromatic_focal_shift_mm: None,
         spot: None,
+        partial_spots: Vec::new(),
         marginal_lsa_mm: None,
         working_f_number: None,
         f_number: None,
@@ -151,41 +261,51 @@ pub fn analyse(system: &System, request: &Request) -> Result<Analysis, AnalysisE
         seidel: None,
         off_axis_transmission: None,
         off_axis_area_transmission: None,
+        field: None,
     };
-    let Ok(p) = pupils else {
+    let (shortest, longest) = analysis.extreme_wavelengths();
+    if count > 1 {
+        analysis.chromatic_focal_shift_mm =
+            match (analysis.colour[longest].image_at_mm, analysis.colour[shortest].image_at_mm) {
+                (Some(zl), Some(zs)) => Some(zl - zs),
+                _ => None,
+            };
+    }
+    let primary = &analysis.wavelengths[request.primary];
+    let seq = &primary.seq;
+    let final_image = primary.final_image_at_mm();
+    let Ok(p) = &primary.pupils else {
         return Ok(analysis);
     };
     let n0 = seq.n_object;
     analysis.lagrange_invariant_mm = Some(paraxial::lagrange_invariant(
         n0,
         p.marginal[0].y_mm,
-        p.marginal_start.1 / n0,
+        p.marginal_start.nu / n0,
         p.chief[0].y_mm,
-        p.chief_start.1 / n0,
+        p.chief_start.nu / n0,
     ));
     let last = seq.steps.last().expect("pupils imply surfaces");
-    let u1 = p.image_space_marginal_slope(&seq);
-    let nu1 = (last.n_after * u1).abs();
-    if nu1 > 0.0 && final_image.is_some() {
-        let nw = 1.0 / (2.0 * nu1);
-        let wavelength_mm = seq.wavelength_nm * 1e-6;
+    if final_image.is_some()
+        && let Some((nw, airy_um, dof_mm)) = diffraction_figures(seq, p.image_space_marginal_slope(seq))
+    {
         analysis.working_f_number = Some(nw);
-        analysis.airy_radius_um = Some(AIRY_FIRST_ZERO * wavelength_mm * nw * 1e3);
-        analysis.depth_of_focus_mm = Some(2.0 * wavelength_mm * nw * nw);
+        analysis.airy_radius_um = Some(airy_um);
+        analysis.depth_of_focus_mm = Some(dof_mm);
     }
-    if let (Some(efl), Some(d)) = (first_order.and_then(|f| f.efl_mm), p.entrance_pupil_diameter_mm)
+    if let (Some(efl), Some(d)) = (analysis.first_order.and_then(|f| f.efl_mm), p.entrance_pupil_diameter_mm)
         && d > 0.0
     {
         analysis.f_number = Some(efl.abs() / d);
     }
-    let (short, long) = (&seqs[shortest.unwrap_or(0)], &seqs[longest.unwrap_or(0)]);
-    analysis.seidel = Some(seidel(&seq, &p.marginal, p.marginal_start.1, &p.chief, p.chief_start.1, short, long));
+    let (short, long) = (&analysis.wavelengths[shortest].seq, &analysis.wavelengths[longest].seq);
+    analysis.seidel = Some(seidel(seq, &p.marginal, p.marginal_start.nu, &p.chief, p.chief_start.nu, short, long));
 
     let mut planes = request.planes_mm.clone();
     if let Some(z) = final_image {
         planes.push(z);
     }
-    let spot = spot_figures(&seq, object, &p, &planes);
+    let spot = spot_figures(seq, object, p, &planes);
     if let Ok(s) = &spot {
         analysis.image_na = Some(last.n_after * s.marginal.m.abs());
         if let (Some(zm), Some(zi)) = (s.marginal.axis_crossing_mm(), final_image) {
@@ -198,9 +318,89 @@ pub fn analyse(system: &System, request: &Request) -> Result<Analysis, AnalysisE
         }
         s
     }));
+    analysis.partial_spots = request.partial_planes.iter().map(|plane| partial_spot(seq, object, *plane)).collect();
     if request.vignetting {
-        analysis.off_axis_transmission = Some(meridional_transmission(&seq, object, &p, FieldPoint::OffAxis));
-        analysis.off_axis_area_transmission = pupil_transmission(&seq, object, &p, 1.0).ok();
+        analysis.off_axis_transmission = Some(meridional_transmission(seq, object, p, FieldPoint::OffAxis));
+        analysis.off_axis_area_transmission = pupil_transmission(seq, object, p, 1.0).ok();
     }
+    analysis.field = field_figures(&analysis, object);
     Ok(analysis)
+}
+
+/// The figures of the light that has met only the first `plane.surfaces` surfaces, at the plane.
+fn partial_spot(seq: &Sequence, object: Object, plane: PartialPlane) -> Option<PartialSpot> {
+    if plane.surfaces == 0 {
+        return None;
+    }
+    let sub = seq.prefix(plane.surfaces);
+    let pupils = Pupils::find(&sub, &object).ok()?;
+    let spot = spot_figures(&sub, object, &pupils, &[plane.at_mm]).ok()?;
+    let airy_radius_um = diffraction_figures(&sub, pupils.image_space_marginal_slope(&sub)).map(|(_, a, _)| a);
+    Some(PartialSpot { spot, airy_radius_um })
+}
+
+/// The off-axis point's field figures at the primary wavelength's final image, with lateral colour from
+/// the shortest and longest wavelengths' own stops.
+fn field_figures(a: &Analysis, object: Object) -> Option<FieldFigures> {
+    let image = a.images().last()?;
+    let (at, height) = (image.at_mm?, image.height_mm?);
+    let p = a.pupils().as_ref().ok()?;
+    let off_axis = match object {
+        Object::Finite { height_mm, .. } => height_mm,
+        Object::Distant { field_deg, .. } => field_deg,
+    };
+    if off_axis == 0.0 {
+        return None;
+    }
+    let s = field_sample(a.seq(), object, p, 1.0, at, height).ok()?;
+    let (shortest, longest) = a.extreme_wavelengths();
+    let chief_at = |k: usize| -> Option<f64> {
+        let w = &a.wavelengths[k];
+        chief_height_at(&w.seq, object, w.pupils.as_ref().ok()?, 1.0, at).ok()
+    };
+    let lateral_colour_mm =
+        (shortest != longest).then(|| chief_at(longest).zip(chief_at(shortest)).map(|(l, s)| l - s)).flatten();
+    Some(FieldFigures {
+        tangential_focus_mm: s.tangential_mm,
+        sagittal_focus_mm: s.sagittal_mm,
+        astigmatism_mm: s.tangential_mm - s.sagittal_mm,
+        chief_height_mm: s.chief_height_mm,
+        distortion_percent: s.distortion.map(|d| 100.0 * d),
+        lateral_colour_mm,
+    })
+}
+
+/// One wavelength of a colour scan.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct ColourSample {
+    /// Wavelength, nm.
+    pub wavelength_nm: f64,
+    /// Final paraxial image position.
+    pub focus_at_mm: Option<f64>,
+    /// Off-axis real chief ray height at `plane_mm`, less the reference height, mm.
+    pub lateral_colour_mm: Option<f64>,
+}
+
+/// The paraxial focus and the off-axis point's real chief ray height at the plane `plane_mm` (less
+/// `reference_mm`) at each of `wavelengths_nm`, each wavelength with its own stop. Wavelengths at which
+/// the system cannot be evaluated are left out.
+pub fn colour_scan(
+    system: &System,
+    object: Object,
+    wavelengths_nm: &[f64],
+    plane_mm: Option<f64>,
+    reference_mm: Option<f64>,
+) -> Vec<ColourSample> {
+    wavelengths_nm
+        .iter()
+        .filter_map(|&w| {
+            let at = Wavelength::of(system, &object, w).ok()?;
+            let chief = plane_mm.and_then(|z| chief_height_at(&at.seq, object, at.pupils.as_ref().ok()?, 1.0, z).ok());
+            Some(ColourSample {
+                wavelength_nm: w,
+                focus_at_mm: at.final_image_at_mm(),
+                lateral_colour_mm: chief.zip(reference_mm).map(|(a, b)| a - b),
+            })
+        })
+        .collect()
 }

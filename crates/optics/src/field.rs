@@ -8,7 +8,7 @@
 //! O(δ⁴) ≈ 1e-11 of the bundle's length at δ = 2e-3 of the stop radius. These are figures of the chief
 //! ray's thin bundle, so clear apertures are ignored: a vignetted chief ray still has its foci.
 
-use crate::paraxial::{self, Object};
+use crate::paraxial::{self, Object, ParaxialRay};
 use crate::pupil::{Aimer, FieldPoint, Pupils};
 use crate::sampling::SkewAimer;
 use crate::skew::{self, SkewRay};
@@ -124,7 +124,7 @@ pub fn chief_height_at(
 ) -> Result<f64, RayError> {
     let point = object.at_field(fraction);
     let mut scaled = pupils.clone();
-    scaled.chief_start = (pupils.chief_start.0 * fraction, pupils.chief_start.1 * fraction);
+    scaled.chief_start = ParaxialRay { y_mm: pupils.chief_start.y_mm * fraction, nu: pupils.chief_start.nu * fraction };
     let (ray, _) = Aimer::new(seq, point, &scaled, FieldPoint::OffAxis).ray_for(0.0, None)?;
     Ok(trace::trace_range(seq, ray, 0..seq.steps.len(), false)?.height_at(z_mm))
 }

@@ -109,12 +109,17 @@ pub struct FirstOrder {
 
 impl FirstOrder {
     /// First-order properties of `seq`; `None` when it has no surface.
+    ///
+    /// The focal distances belong to the optics: the FFL is measured from the first and the BFL from the
+    /// last lens or mirror vertex the light meets, never from an iris before or after them. A sequence of
+    /// irises only has no first order (`None`).
     pub fn of(seq: &Sequence) -> Option<FirstOrder> {
-        let first = seq.steps.first()?;
-        let last = seq.steps.last()?;
+        let first = &seq.steps[seq.first_optic()?];
+        let last = &seq.steps[seq.last_optic()?];
+        let exit = seq.steps.last()?;
         let mx = SystemMatrix::of(seq);
         let n = seq.n_object;
-        let n1 = last.signed_n_after();
+        let n1 = exit.signed_n_after();
         let power = -mx.c;
         let scale: f64 = seq.steps.iter().map(|s| surface_power(s).abs()).sum();
         let afocal = power.abs() <= 1e-9 * scale || power == 0.0;
@@ -135,10 +140,13 @@ impl FirstOrder {
                 matrix: mx,
             });
         }
-        let back_focus = last.z_mm - n1 * mx.a / mx.c;
-        let front_focus = first.z_mm + n * mx.d / mx.c;
-        let back_principal = last.z_mm + n1 * (1.0 - mx.a) / mx.c;
-        let front_principal = first.z_mm + n * (mx.d - 1.0) / mx.c;
+        // The matrix runs from the first to the last vertex of the sequence (an iris there only adds a
+        // transfer), so the points are placed from those vertices.
+        let (z_in, z_out) = (seq.steps[0].z_mm, exit.z_mm);
+        let back_focus = z_out - n1 * mx.a / mx.c;
+        let front_focus = z_in + n * mx.d / mx.c;
+        let back_principal = z_out + n1 * (1.0 - mx.a) / mx.c;
+        let front_principal = z_in + n * (mx.d - 1.0) / mx.c;
         let nodal_shift = (n1 - n) / power;
         Some(FirstOrder {
             power_per_mm: power,
@@ -227,41 +235,62 @@ pub struct ParaxialImage {
     pub magnification: Option<f64>,
     /// Image height of the off-axis object point, mm (`None` at infinity).
     pub height_mm: Option<f64>,
-    /// Whether the light really converges to the image before meeting the next surface.
+    /// Whether the light converges to the image in its direction of travel (a real image), whatever
+    /// irises it passes on the way; false for a virtual image, which the light only appears to come from.
     pub real: bool,
+    /// For a real image, the surface of the next imaging element when that element meets the light
+    /// before it converges: the image is real but intercepted, a virtual object for that element.
+    pub intercepted_by: Option<usize>,
     /// Whether the image is upright relative to the object.
     pub erect: bool,
 }
 
-/// The paraxial images after each imaging element (a run of surfaces with the same element tag) and after
-/// the last one.
+/// The paraxial images after each imaging element (a run of surfaces with the same element tag that bends
+/// the light: a lens or a mirror, never an iris); the last is the final image.
 pub fn images(seq: &Sequence, object: &Object) -> Vec<ParaxialImage> {
     let (ya, nua) = object.axial_ray_start(seq);
     let (yb, nub) = object.field_ray_start(seq);
     let a = trace(seq, ya, nua);
     let b = trace(seq, yb, nub);
-    let mut out = Vec::new();
-    for i in 0..seq.steps.len() {
-        let end_of_element = i + 1 == seq.steps.len() || seq.steps[i + 1].element != seq.steps[i].element;
-        if !end_of_element || !element_has_power(seq, i) {
-            continue;
-        }
-        out.push(image_after(seq, object, i, &a[i], &b[i], nua));
-    }
-    if out.last().is_none_or(|img| img.after_surface + 1 != seq.steps.len()) && !seq.steps.is_empty() {
-        let i = seq.steps.len() - 1;
-        out.push(image_after(seq, object, i, &a[i], &b[i], nua));
-    }
-    out
+    let ends: Vec<usize> = (0..seq.steps.len())
+        .filter(|&i| {
+            let end_of_element = i + 1 == seq.steps.len() || seq.steps[i + 1].element != seq.steps[i].element;
+            end_of_element && element_has_power(seq, i)
+        })
+        .collect();
+    ends.iter()
+        .enumerate()
+        .map(|(k, &i)| {
+            // The first surface of the next imaging element, if any.
+            let next = ends.get(k + 1).map(|&j| {
+                let tag = seq.steps[j].element;
+                (0..=j).rev().take_while(|&s| seq.steps[s].element == tag).last().unwrap_or(j)
+            });
+            image_after(seq, object, i, next, &a[i], &b[i], nua)
+        })
+        .collect()
 }
 
-/// Whether the element ending at surface `i` bends light at all (irises and screens do not image).
+/// Whether the element ending at surface `i` images: it bends the light or is a mirror (a flat mirror
+/// images too). Irises and screens do not image.
 fn element_has_power(seq: &Sequence, i: usize) -> bool {
     let tag = seq.steps[i].element;
-    seq.steps[..=i].iter().rev().take_while(|s| s.element == tag).any(|s| surface_power(s) != 0.0)
+    seq.steps[..=i]
+        .iter()
+        .rev()
+        .take_while(|s| s.element == tag)
+        .any(|s| surface_power(s) != 0.0 || s.kind == crate::system::Kind::Reflect)
 }
 
-fn image_after(seq: &Sequence, object: &Object, i: usize, a: &ParaxialRay, b: &ParaxialRay, nu0: f64) -> ParaxialImage {
+fn image_after(
+    seq: &Sequence,
+    object: &Object,
+    i: usize,
+    next_imaging: Option<usize>,
+    a: &ParaxialRay,
+    b: &ParaxialRay,
+    nu0: f64,
+) -> ParaxialImage {
     let step = &seq.steps[i];
     let n1 = step.signed_n_after();
     // An image "at infinity" when the axial ray leaves parallel to within rounding.
@@ -276,11 +305,12 @@ fn image_after(seq: &Sequence, object: &Object, i: usize, a: &ParaxialRay, b: &P
         (Object::Finite { .. }, Some(_)) => Some(nu0 / a.nu),
         _ => None,
     };
-    let real = at.is_some_and(|z| {
-        let ahead = (z - step.z_mm) * step.dir_after > 0.0;
-        let before_next = seq.steps.get(i + 1).is_none_or(|next| (next.z_mm - z) * step.dir_after > 0.0);
-        ahead && before_next
-    });
+    // Real when the light converges to it: the image lies ahead of the element along the light.
+    let real = at.is_some_and(|z| (z - step.z_mm) * step.dir_after > 0.0);
+    let intercepted_by = match (at, next_imaging) {
+        (Some(z), Some(j)) if real && (z - seq.steps[j].z_mm) * step.dir_after > 0.0 => Some(j),
+        _ => None,
+    };
     // Seen from the image side, an erect image of an object above the axis lies above it: its rays travel
     // downward towards the viewer when the image is at infinity.
     let reference_slope = -field_scale;
@@ -289,7 +319,16 @@ fn image_after(seq: &Sequence, object: &Object, i: usize, a: &ParaxialRay, b: &P
         (Object::Distant { .. }, None, Some(h)) => h * field_scale > 0.0,
         _ => b.nu / n1.abs() * step.dir_after * reference_slope > 0.0,
     };
-    ParaxialImage { after_surface: i, element: step.element, at_mm: at, magnification, height_mm: height, real, erect }
+    ParaxialImage {
+        after_surface: i,
+        element: step.element,
+        at_mm: at,
+        magnification,
+        height_mm: height,
+        real,
+        intercepted_by,
+        erect,
+    }
 }
 
 /// The Lagrange invariant H = n(ū y − u ȳ) of a marginal ray (y, u) and a chief ray (ȳ, ū) in a space of

@@ -36,12 +36,12 @@ pub struct Pupils {
     pub exit_pupil_diameter_mm: Option<f64>,
     /// The paraxial marginal ray after each surface (scaled to the stop's edge).
     pub marginal: Vec<ParaxialRay>,
-    /// The marginal ray at the first vertex plane in object space: (y, nu).
-    pub marginal_start: (f64, f64),
+    /// The marginal ray at the first vertex plane in object space.
+    pub marginal_start: ParaxialRay,
     /// The paraxial chief ray after each surface (for the off-axis object point at its full height).
     pub chief: Vec<ParaxialRay>,
-    /// The chief ray at the first vertex plane in object space: (y, nu).
-    pub chief_start: (f64, f64),
+    /// The chief ray at the first vertex plane in object space.
+    pub chief_start: ParaxialRay,
 }
 
 /// Why the stop cannot be found.
@@ -79,7 +79,7 @@ impl Pupils {
         let (scale, stop) = best.ok_or(PupilError::Unbounded)?;
         let marginal: Vec<ParaxialRay> =
             a.iter().map(|r| ParaxialRay { y_mm: r.y_mm * scale, nu: r.nu * scale }).collect();
-        let marginal_start = (ya * scale, nua * scale);
+        let marginal_start = ParaxialRay { y_mm: ya * scale, nu: nua * scale };
         let (stop_semi_mm, stop_at_mm, y_axial_at_stop) = match stop {
             StopAt::Beam => (scale * ya.abs(), first.z_mm, ya),
             StopAt::Surface(i) => (seq.steps[i].semi_aperture_mm, seq.steps[i].z_mm, a[i].y_mm),
@@ -107,16 +107,16 @@ impl Pupils {
                 nu: field_scale * (rb.nu - alpha * ra.nu),
             })
             .collect();
-        let chief_start = (field_scale * (yb - alpha * ya), field_scale * (nub - alpha * nua));
+        let chief_start = ParaxialRay { y_mm: field_scale * (yb - alpha * ya), nu: field_scale * (nub - alpha * nua) };
         // Pupils: where the chief ray crosses the axis in object and image space; the marginal ray's height
         // there gives the diameter. A unit field is used so that a zero field height still finds them.
-        let unit_chief_start = (yb - alpha * ya, nub - alpha * nua);
+        let unit_chief_start = ParaxialRay { y_mm: yb - alpha * ya, nu: nub - alpha * nua };
         let n0 = seq.n_object;
-        let (entrance_pupil_at_mm, entrance_pupil_diameter_mm) = if unit_chief_start.1 == 0.0 {
+        let (entrance_pupil_at_mm, entrance_pupil_diameter_mm) = if unit_chief_start.nu == 0.0 {
             (None, None)
         } else {
-            let z = first.z_mm - unit_chief_start.0 * n0 / unit_chief_start.1;
-            let y = marginal_start.0 + (z - first.z_mm) * marginal_start.1 / n0;
+            let z = first.z_mm - unit_chief_start.y_mm * n0 / unit_chief_start.nu;
+            let y = marginal_start.y_mm + (z - first.z_mm) * marginal_start.nu / n0;
             (Some(z), Some(2.0 * y.abs()))
         };
         let last_i = seq.steps.len() - 1;
@@ -189,7 +189,7 @@ impl<'a> Aimer<'a> {
                 let y_per_slope = paraxial::trace(seq, ya, nua)[i].y_mm;
                 let centre = match field {
                     FieldPoint::OnAxis => 0.0,
-                    FieldPoint::OffAxis => pupils.chief_start.1 / n0,
+                    FieldPoint::OffAxis => pupils.chief_start.nu / n0,
                 };
                 (y_per_slope, centre)
             }
@@ -200,7 +200,7 @@ impl<'a> Aimer<'a> {
             (Object::Distant { .. }, FieldPoint::OffAxis) => {
                 // The chief ray's height at the first vertex plane, as a perpendicular offset.
                 let theta = -self_field_angle(&object);
-                pupils.chief_start.0 * theta.cos()
+                pupils.chief_start.y_mm * theta.cos()
             }
             _ => centre,
         };
@@ -345,6 +345,29 @@ pub(crate) fn passing_measure(
         };
     }
     total
+}
+
+/// A meridional fan of `count` real rays from the object point `field`, aimed at evenly spaced heights
+/// across the stop's diameter (the edges a hair inside), each traced with its path: what a side view of
+/// the bench draws. Rays that cannot be aimed are left out.
+pub fn meridional_fan(
+    seq: &Sequence,
+    object: Object,
+    pupils: &Pupils,
+    field: FieldPoint,
+    count: usize,
+) -> Vec<trace::RayPath> {
+    let aimer = Aimer::new(seq, object, pupils, field);
+    let mut guess = None;
+    let mut out = Vec::with_capacity(count);
+    for k in 0..count {
+        let rho = if count > 1 { -1.0 + 2.0 * k as f64 / (count - 1) as f64 } else { 0.0 };
+        let h = rho * pupils.stop_semi_mm * (1.0 - 1e-9);
+        let Ok((ray, p)) = aimer.ray_for(h, guess) else { continue };
+        guess = Some(p);
+        out.push(trace::trace_path(seq, ray));
+    }
+    out
 }
 
 #[cfg(test)]

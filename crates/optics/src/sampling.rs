@@ -6,7 +6,7 @@
 //! coordinate, the real ray from the object point that meets the real stop there, so that the pupil is
 //! filled through the stop as built rather than through its paraxial image.
 
-use crate::paraxial::Object;
+use crate::paraxial::{Object, ParaxialRay};
 use crate::pupil::{Aimer, FieldPoint, Pupils, StopAt, passing_measure};
 use crate::quadrature::pupil_rings;
 use crate::skew::{self, SkewRay};
@@ -25,23 +25,23 @@ pub struct PupilSample {
     pub weight: f64,
 }
 
-/// How to sample the pupil.
+/// How to sample the pupil (our words: rings, grid, Gauss rings; always shown with the ray count).
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 pub enum Grid {
-    /// The centre and `rings` concentric rings, ring j holding 6j evenly spaced points (1 + 3n(n+1) rays);
-    /// the usual picture of a spot diagram.
-    Hexapolar {
-        /// Number of rings.
+    /// The centre and `rings` concentric rings, ring j holding 6j evenly spaced points (1 + 3n(n+1) rays),
+    /// so that every ray stands for about the same area.
+    Rings {
+        /// Number of rings about the centre.
         rings: usize,
     },
     /// The points of a square grid `across` points wide that fall inside the pupil.
-    Square {
+    Grid {
         /// Points across the diameter.
         across: usize,
     },
     /// Gauss–Legendre rings in ρ² times evenly spaced arms: integrates over the pupil's area exactly for
     /// polynomials up to degree 2·rings − 1 in ρ² and harmonics below `arms` in angle (Forbes 1988).
-    Polar {
+    GaussRings {
         /// Number of rings.
         rings: usize,
         /// Number of arms.
@@ -50,12 +50,23 @@ pub enum Grid {
 }
 
 impl Grid {
-    /// The grid's samples. Equal weights for the hexapolar and square grids (area-uniform approximations),
-    /// quadrature weights for the polar grid.
+    /// What a person reads: the pattern and its ray count, e.g. "rings, 127 rays", "grid, 15 across,
+    /// 177 rays", "Gauss rings 6 × 12, 72 rays".
+    pub fn label(&self) -> String {
+        let n = self.samples().len();
+        match *self {
+            Grid::Rings { .. } => format!("rings, {n} rays"),
+            Grid::Grid { across } => format!("grid, {across} across, {n} rays"),
+            Grid::GaussRings { rings, arms } => format!("Gauss rings {rings} × {arms}, {n} rays"),
+        }
+    }
+
+    /// The grid's samples. Equal weights for rings and the grid (area-uniform approximations), quadrature
+    /// weights for Gauss rings.
     pub fn samples(&self) -> Vec<PupilSample> {
         let mut out = Vec::new();
         match *self {
-            Grid::Hexapolar { rings } => {
+            Grid::Rings { rings } => {
                 out.push(PupilSample { px: 0.0, py: 0.0, weight: 1.0 });
                 for j in 1..=rings {
                     let r = j as f64 / rings as f64;
@@ -67,7 +78,7 @@ impl Grid {
                     }
                 }
             }
-            Grid::Square { across } => {
+            Grid::Grid { across } => {
                 let n = across.max(1);
                 let step = if n == 1 { 0.0 } else { 2.0 / (n - 1) as f64 };
                 for i in 0..n {
@@ -80,7 +91,7 @@ impl Grid {
                     }
                 }
             }
-            Grid::Polar { rings, arms } => {
+            Grid::GaussRings { rings, arms } => {
                 let arms = arms.max(1);
                 for (rho, w) in pupil_rings(rings.max(1)) {
                     for k in 0..arms {
@@ -91,7 +102,7 @@ impl Grid {
                 }
             }
         }
-        if !matches!(self, Grid::Polar { .. }) {
+        if !matches!(self, Grid::GaussRings { .. }) {
             let share = 1.0 / out.len() as f64;
             out.iter_mut().for_each(|s| s.weight = share);
         }
@@ -128,7 +139,8 @@ impl<'a> SkewAimer<'a> {
         let point = object.at_field(fraction);
         // The meridional aimer finds the chief ray and, from a nearby aimed ray, the scale of the launch.
         let mut scaled = pupils.clone();
-        scaled.chief_start = (pupils.chief_start.0 * fraction, pupils.chief_start.1 * fraction);
+        scaled.chief_start =
+            ParaxialRay { y_mm: pupils.chief_start.y_mm * fraction, nu: pupils.chief_start.nu * fraction };
         let meridional = Aimer::new(seq, point, &scaled, FieldPoint::OffAxis);
         let v0 = meridional.parameter_for(0.0, None)?;
         let a = pupils.stop_semi_mm;
@@ -356,11 +368,11 @@ mod tests {
 
     #[test]
     fn grids_have_the_advertised_points() {
-        assert_eq!(Grid::Hexapolar { rings: 6 }.samples().len(), 1 + 3 * 6 * 7);
-        let square = Grid::Square { across: 11 }.samples();
+        assert_eq!(Grid::Rings { rings: 6 }.samples().len(), 1 + 3 * 6 * 7);
+        let square = Grid::Grid { across: 11 }.samples();
         assert!(square.iter().all(|s| s.px.hypot(s.py) <= 1.0 + 1e-12));
         assert!(square.iter().any(|s| (s.py - 1.0).abs() < 1e-15));
-        for g in [Grid::Hexapolar { rings: 3 }, Grid::Square { across: 9 }, Grid::Polar { rings: 4, arms: 8 }] {
+        for g in [Grid::Rings { rings: 3 }, Grid::Grid { across: 9 }, Grid::GaussRings { rings: 4, arms: 8 }] {
             let w: f64 = g.samples().iter().map(|s| s.weight).sum();
             assert!((w - 1.0).abs() < 1e-14, "{g:?}");
         }
@@ -369,7 +381,7 @@ mod tests {
     /// The polar grid integrates ρ⁴cos²φ over the unit disk exactly: ∫ρ⁴cos²φ dA / π = 1/6.
     #[test]
     fn polar_grid_integrates_exactly() {
-        let s = Grid::Polar { rings: 3, arms: 6 }.samples();
+        let s = Grid::GaussRings { rings: 3, arms: 6 }.samples();
         let m: f64 = s
             .iter()
             .map(|p| p.weight * (p.px * p.px + p.py * p.py).powi(2) * p.py * p.py / (p.px * p.px + p.py * p.py))
@@ -431,7 +443,7 @@ mod tests {
         let seq = singlet_with_front_stop();
         let object = Object::Finite { z_mm: 0.0, height_mm: 10.0 };
         let pupils = Pupils::find(&seq, &object).unwrap();
-        let g = trace_grid(&seq, object, &pupils, 1.0, &Grid::Hexapolar { rings: 4 }.samples()).unwrap();
+        let g = trace_grid(&seq, object, &pupils, 1.0, &Grid::Rings { rings: 4 }.samples()).unwrap();
         assert_eq!(g.lost, 0);
         let at = |px: f64, py: f64| {
             g.rays

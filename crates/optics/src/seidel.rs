@@ -134,9 +134,9 @@ mod tests {
         let seq = system.at(587.5618).unwrap();
         let object = Object::Finite { z_mm: 0.0, height_mm: 5.0 };
         let p = Pupils::find(&seq, &object).unwrap();
-        let s = seidel(&seq, &p.marginal, p.marginal_start.1, &p.chief, p.chief_start.1, &seq, &seq);
-        let mut nu_b = p.marginal_start.1;
-        let mut nub_b = p.chief_start.1;
+        let s = seidel(&seq, &p.marginal, p.marginal_start.nu, &p.chief, p.chief_start.nu, &seq, &seq);
+        let mut nu_b = p.marginal_start.nu;
+        let mut nub_b = p.chief_start.nu;
         for (i, st) in seq.steps.iter().enumerate() {
             let n = st.signed_n_before();
             let a = n * (nu_b / n + p.marginal[i].y_mm * st.c);
@@ -152,7 +152,7 @@ mod tests {
         // The Lagrange invariant is the same in object and image space.
         let last = seq.steps.len() - 1;
         let n1 = seq.steps[last].signed_n_after();
-        let h0 = lagrange_invariant(1.0, p.marginal[0].y_mm, p.marginal_start.1, p.chief[0].y_mm, p.chief_start.1);
+        let h0 = lagrange_invariant(1.0, p.marginal[0].y_mm, p.marginal_start.nu, p.chief[0].y_mm, p.chief_start.nu);
         let h1 = lagrange_invariant(
             n1,
             p.marginal[last].y_mm,

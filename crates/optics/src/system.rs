@@ -234,6 +234,15 @@ impl Step {
     pub fn is_spherical(&self) -> bool {
         self.k == 0.0
     }
+
+    /// Whether the surface only limits the light: a flat plane between equal indices (an iris). Every
+    /// other surface (a lens or mirror face, an ideal lens, a flat face of glass) belongs to the optics.
+    pub fn is_aperture_only(&self) -> bool {
+        // Equal indices from the same material evaluate to the same bits; an iris in air is exactly 1 = 1.
+        #[allow(clippy::float_cmp)]
+        let same_index = self.n_before == self.n_after;
+        self.kind == Kind::Refract && self.c == 0.0 && same_index
+    }
 }
 
 /// A system evaluated at one wavelength: the numeric sequence that traces read.
@@ -256,6 +265,26 @@ impl Sequence {
     /// Direction of travel in image space: +1 or −1.
     pub fn dir_image(&self) -> f64 {
         self.steps.last().map_or(1.0, |s| s.dir_after)
+    }
+
+    /// The first `count` surfaces as a sequence of their own (the light that has met only those), with
+    /// the same numbers: nothing is evaluated again.
+    pub fn prefix(&self, count: usize) -> Sequence {
+        Sequence {
+            wavelength_nm: self.wavelength_nm,
+            n_object: self.n_object,
+            steps: self.steps[..count.min(self.steps.len())].to_vec(),
+        }
+    }
+
+    /// Index of the first surface that belongs to the optics (not an iris; see [`Step::is_aperture_only`]).
+    pub fn first_optic(&self) -> Option<usize> {
+        self.steps.iter().position(|s| !s.is_aperture_only())
+    }
+
+    /// Index of the last surface that belongs to the optics.
+    pub fn last_optic(&self) -> Option<usize> {
+        self.steps.iter().rposition(|s| !s.is_aperture_only())
     }
 }
 

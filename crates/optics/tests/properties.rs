@@ -84,6 +84,7 @@ proptest! {
             wavelengths_nm: vec![486.1327, 587.5618, 656.2725],
             primary: 1,
             planes_mm: vec![700.0],
+            partial_planes: Vec::new(),
             vignetting: true,
         };
         let a = analyse(&system, &request).unwrap();
@@ -93,7 +94,7 @@ proptest! {
                 prop_assert!(finite_or_none(v));
             }
         }
-        for img in &a.images {
+        for img in a.images() {
             prop_assert!(finite_or_none(img.at_mm) && finite_or_none(img.magnification) && finite_or_none(img.height_mm));
         }
         for v in [a.chromatic_focal_shift_mm, a.marginal_lsa_mm, a.working_f_number, a.f_number, a.image_na,
@@ -102,11 +103,11 @@ proptest! {
         }
         if let Some(Ok(s)) = &a.spot {
             prop_assert!(finite_or_none(s.best_rms_mm) && finite_or_none(s.best_focus_at_mm) && finite_or_none(s.best_geometric_mm));
-            for (z, rms, geo) in &s.planes {
-                prop_assert!(z.is_finite() && rms.is_finite() && geo.is_finite());
+            for p in &s.planes {
+                prop_assert!(p.at_mm.is_finite() && p.rms_mm.is_finite() && p.geometric_mm.is_finite());
             }
         }
-        if let Ok(p) = &a.pupils {
+        if let Ok(p) = a.pupils() {
             for v in [p.entrance_pupil_at_mm, p.entrance_pupil_diameter_mm, p.exit_pupil_at_mm, p.exit_pupil_diameter_mm] {
                 prop_assert!(finite_or_none(v));
             }

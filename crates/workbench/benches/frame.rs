@@ -1,10 +1,10 @@
-//! The per-frame work while a part is dragged: the report and the traced scene recomputed from the bench,
-//! the five analysis views recomputed, for every demo bench; and whole headless frames.
+//! The per-frame work while a part is dragged: the bench's one evaluation and the rail scene projected from
+//! it, the five analysis views recomputed, for every demo bench; and whole headless frames.
 #![allow(missing_docs)] // criterion_group! generates undocumented items.
 
 use criterion::{Criterion, criterion_group, criterion_main};
 use lumenrail_bench::demos::DEMOS;
-use lumenrail_bench::report::Report;
+use lumenrail_bench::evaluation::Evaluation;
 use lumenrail_workbench::Workbench;
 use lumenrail_workbench::scene::Scene;
 use std::hint::black_box;
@@ -19,7 +19,9 @@ fn drag_recompute(c: &mut Criterion) {
                 // Move the first part by a hair each frame, as a drag does.
                 k = k.wrapping_add(1);
                 bench.parts[0].at_mm += if k.is_multiple_of(2) { 0.01 } else { -0.01 };
-                (black_box(Report::of(&bench)), black_box(Scene::of(&bench)))
+                let evaluation = Evaluation::of(&bench);
+                black_box(Scene::of(&evaluation));
+                black_box(evaluation)
             })
         });
     }
@@ -39,8 +41,7 @@ fn views_recompute(c: &mut Criterion) {
             b.iter(|| {
                 k = k.wrapping_add(1);
                 bench.parts[0].at_mm += if k.is_multiple_of(2) { 0.01 } else { -0.01 };
-                let report = Report::of(&bench);
-                black_box(Views::of(&bench, &report, &request))
+                black_box(Views::of(&Evaluation::of(&bench), &request))
             })
         });
     }

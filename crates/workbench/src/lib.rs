@@ -13,9 +13,10 @@ pub mod scene;
 mod sheet;
 
 use lumenrail_bench::demos;
+use lumenrail_bench::evaluation::Evaluation;
 use lumenrail_bench::file;
 use lumenrail_bench::model::{Bench, ObjectSpec, Part, PartKind};
-use lumenrail_bench::report::{Report, fixed};
+use lumenrail_bench::report::fixed;
 use scene::Scene;
 use std::path::PathBuf;
 
@@ -63,8 +64,8 @@ pub struct Workbench {
     /// Key of the last merged edit (a drag, or typing in one field): later edits with the same key join its
     /// undo step.
     merge_key: Option<String>,
-    /// The figures of the current bench.
-    pub report: Report,
+    /// The one evaluation of the current bench: its report, views and rail drawing are projections of it.
+    pub evaluation: Evaluation,
     /// What the rail view draws.
     pub scene: Scene,
     /// The selected part (index into `bench.parts`).
@@ -102,15 +103,15 @@ pub(crate) enum PathPrompt {
 impl Workbench {
     /// A workbench on `bench`.
     pub fn new(bench: Bench, path: Option<PathBuf>) -> Workbench {
-        let report = Report::of(&bench);
-        let scene = Scene::of(&bench);
+        let evaluation = Evaluation::of(&bench);
+        let scene = Scene::of(&evaluation);
         Workbench {
             saved: bench.clone(),
             bench,
             path,
             history: History::default(),
             merge_key: None,
-            report,
+            evaluation,
             scene,
             selected: None,
             snap_mm: 1.0,
@@ -251,8 +252,8 @@ impl Workbench {
     /// Recomputes the report and the scene from the bench.
     pub fn refresh(&mut self) {
         self.revision += 1;
-        self.report = Report::of(&self.bench);
-        self.scene = Scene::of(&self.bench);
+        self.evaluation = Evaluation::of(&self.bench);
+        self.scene = Scene::of(&self.evaluation);
     }
 
     /// Whether part `index` is locked.
@@ -298,7 +299,9 @@ impl Workbench {
     /// Moves screen `index` to the best-focus plane of the report.
     pub fn move_screen_to_best_focus(&mut self, index: usize) {
         let name = &self.bench.parts[index].name;
-        if let Some(z) = self.report.screens.iter().find(|s| &s.part == name).and_then(|s| s.best_focus_at_mm) {
+        if let Some(z) =
+            self.evaluation.report.screens.iter().find(|s| &s.part == name).and_then(|s| s.best_focus_at_mm)
+        {
             self.apply(Edit::Move { index, at_mm: z }, None);
         }
     }
@@ -562,7 +565,8 @@ impl Workbench {
     }
 
     fn readout_ui(&mut self, ui: &mut egui::Ui) {
-        let r = &self.report;
+        let r = &self.evaluation.report;
+        let mut select = None;
         let mut to_best_focus = None;
         ui.heading("Readout");
         ui.label(&r.title);
@@ -666,11 +670,28 @@ impl Workbench {
             ui.separator();
             ui.strong("Warnings");
             for w in &r.warnings {
-                ui.label(format!("• {w}"));
+                let part = w.part.as_ref().and_then(|name| self.bench.parts.iter().position(|p| &p.name == name));
+                ui.horizontal_wrapped(|ui| {
+                    ui.label("•");
+                    match part {
+                        // A warning about a part selects it when clicked, so the rail shows which one.
+                        Some(i) => {
+                            if ui.link(&w.message).on_hover_text("select the part").clicked() {
+                                select = Some(i);
+                            }
+                        }
+                        None => {
+                            ui.label(&w.message);
+                        }
+                    }
+                });
             }
         }
         if let Some(index) = to_best_focus {
             self.move_screen_to_best_focus(index);
+        }
+        if select.is_some() {
+            self.selected = select;
         }
     }
 }

@@ -23,7 +23,7 @@ pub struct ViewsPanel {
     pub request: ViewRequest,
     /// The typed plane position for [`Plane::At`].
     plane_mm: f64,
-    cache: Option<(u64, ViewRequest, Views)>,
+    cache: Option<(u64, ViewRequest, ViewKind, Views)>,
 }
 
 impl Default for ViewsPanel {
@@ -32,37 +32,49 @@ impl Default for ViewsPanel {
     }
 }
 
-/// The pupil grids offered for the spot diagram.
-pub const GRIDS: [(&str, Grid); 3] = [
-    ("hexapolar, 6 rings", Grid::Hexapolar { rings: 6 }),
-    ("square, 15 across", Grid::Square { across: 15 }),
-    ("Gauss polar, 6 x 12", Grid::Polar { rings: 6, arms: 12 }),
-];
+/// The pupil grids offered for the spot diagram (each shown by [`Grid::label`], with its ray count).
+pub const GRIDS: [Grid; 3] =
+    [Grid::Rings { rings: 6 }, Grid::Grid { across: 15 }, Grid::GaussRings { rings: 6, arms: 12 }];
 
 impl Workbench {
     /// The views of the current bench for the panel's request, recomputed only when either changed. With
     /// the automatic plane, a selected screen is the plane the spot and fan views look at.
     pub fn views(&mut self) -> &Views {
+        self.views_of(self.views.tab)
+    }
+
+    /// The views of the current bench with `kind` among them, recomputed only when the bench, the request
+    /// or the kind changed: only that view is computed.
+    fn views_of(&mut self, kind: ViewKind) -> &Views {
         let mut request = self.views.request.clone();
         if request.plane == Plane::Auto
             && let Some(part) = self.selected.and_then(|i| self.bench.parts.get(i))
             && matches!(part.kind, PartKind::Screen { .. })
-            && self.report.screens.iter().any(|s| s.part == part.name && s.after_last_part && s.rms_spot_um.is_some())
+            && self
+                .evaluation
+                .report
+                .screens
+                .iter()
+                .any(|s| s.part == part.name && s.after_last_part && s.rms_spot_um.is_some())
         {
             request.plane = Plane::Screen(part.name.clone());
         }
-        let fresh = self.views.cache.as_ref().is_some_and(|(rev, req, _)| *rev == self.revision && *req == request);
+        let fresh = self
+            .views
+            .cache
+            .as_ref()
+            .is_some_and(|(rev, req, k, _)| *rev == self.revision && *req == request && *k == kind);
         if !fresh {
-            let v = Views::of(&self.bench, &self.report, &request);
-            self.views.cache = Some((self.revision, request, v));
+            let v = Views::only(&self.evaluation, &request, &[kind]);
+            self.views.cache = Some((self.revision, request, kind, v));
         }
-        &self.views.cache.as_ref().expect("just filled").2
+        &self.views.cache.as_ref().expect("just filled").3
     }
 
     /// Writes one view's CSV or PNG to `path` (atomically); the status line says what happened.
     pub fn export_view(&mut self, kind: ViewKind, png: bool, path: &Path) -> bool {
         let title = self.bench.title.clone();
-        let views = self.views();
+        let views = self.views_of(kind);
         let bytes =
             if png { encode_png(&view_png(views, kind, &title)) } else { views.csv(kind).map(String::into_bytes) };
         let Some(bytes) = bytes else {
@@ -242,9 +254,9 @@ fn fan_ui(ui: &mut egui::Ui, views: &Views, interactive: bool, height: f32) {
     ui.columns(2, |cols| {
         for (k, col) in cols.iter_mut().enumerate() {
             let (id, x_label, y_label) = if k == 0 {
-                ("fan tangential", "tangential pupil py", "y error, µm")
+                ("fan tangential", "pupil height, tangential (−1 to 1)", "ray error in y, µm")
             } else {
-                ("fan sagittal", "sagittal pupil px", "x error, µm")
+                ("fan sagittal", "pupil width, sagittal (−1 to 1)", "ray error in x, µm")
             };
             let colours: Vec<Color32> = v.series.iter().map(|s| series_colour(col, s.wavelength_nm)).collect();
             plot(id, x_label, y_label, interactive, height).show(col, |p| {
@@ -366,6 +378,7 @@ pub(crate) fn panel_ui(wb: &mut Workbench, ui: &mut egui::Ui) {
         }
         ui.separator();
         let screens: Vec<String> = wb
+            .evaluation
             .report
             .screens
             .iter()
@@ -394,10 +407,9 @@ pub(crate) fn panel_ui(wb: &mut Workbench, ui: &mut egui::Ui) {
             ui.add(egui::DragValue::new(z).suffix(" mm").speed(0.1)).labelled_by(label.id);
             wb.views.plane_mm = *z;
         }
-        let grid_label = GRIDS.iter().find(|(_, g)| *g == wb.views.request.grid).map_or("grid", |(n, _)| n);
-        egui::ComboBox::from_label("pupil grid").selected_text(grid_label).show_ui(ui, |ui| {
-            for (n, g) in GRIDS {
-                ui.selectable_value(&mut wb.views.request.grid, g, n);
+        egui::ComboBox::from_label("pupil pattern").selected_text(wb.views.request.grid.label()).show_ui(ui, |ui| {
+            for g in GRIDS {
+                ui.selectable_value(&mut wb.views.request.grid, g, g.label());
             }
         });
         ui.separator();

@@ -6,7 +6,6 @@ use crate::{Edit, Workbench};
 use egui::{Color32, Pos2, Rect, Sense, Shape, Stroke, pos2, vec2};
 use lumenrail_bench::compile;
 use lumenrail_bench::model::{ObjectSpec, Part, PartKind, SurfaceSpec};
-use lumenrail_optics::paraxial::FirstOrder;
 
 /// Zoom and pan of the rail view; `None` scale means "fit the bench".
 #[derive(Debug, Clone, Default)]
@@ -119,7 +118,7 @@ pub(crate) fn rail_ui(wb: &mut Workbench, ui: &mut egui::Ui) {
         }
     }
     if let Some(i) = wb.selected.filter(|&i| i < wb.bench.parts.len()) {
-        focal_marks_ui(&painter, &f, &wb.bench.parts[i], wb.bench.rail_length_mm);
+        focal_marks_ui(&painter, &f, wb, i);
     }
     for i in 0..wb.bench.parts.len() {
         part_ui(wb, ui, &painter, &f, i);
@@ -197,24 +196,11 @@ fn rays_ui(painter: &egui::Painter, f: &Frame, wb: &Workbench) {
     }
 }
 
-/// The selected part's focal points and principal planes.
-fn focal_marks_ui(painter: &egui::Painter, f: &Frame, part: &Part, rail_mm: f64) {
-    if matches!(part.kind, PartKind::Screen { .. } | PartKind::Iris { .. }) {
-        return;
-    }
-    let mut alone = lumenrail_bench::model::Bench {
-        format: 1,
-        title: String::new(),
-        rail_length_mm: rail_mm,
-        wavelengths_nm: vec![587.5618],
-        primary_wavelength: 0,
-        object: ObjectSpec::Distant { field_deg: 0.0, beam_diameter_mm: 1.0 },
-        parts: vec![part.clone()],
-    };
-    alone.parts[0].carrier_mm = None;
-    let Ok(c) = compile::compile(&alone) else { return };
-    let Ok(seq) = c.system.at(587.5618) else { return };
-    let Some(fo) = FirstOrder::of(&seq) else { return };
+/// The selected part's focal points and principal planes, from the evaluation's first-order figures of
+/// the part alone (lenses and mirrors the light meets).
+fn focal_marks_ui(painter: &egui::Painter, f: &Frame, wb: &Workbench, index: usize) {
+    let Some(part) = wb.bench.parts.get(index) else { return };
+    let Some(fo) = wb.evaluation.part_first_order.get(index).copied().flatten() else { return };
     let mark = Color32::from_rgb(120, 220, 160);
     let h = 0.5 * part.kind.diameter_mm();
     for (z, label) in [(fo.front_focus_at_mm, "F"), (fo.back_focus_at_mm, "F'")] {
@@ -380,6 +366,7 @@ fn hover_figures(wb: &Workbench, part: &Part) -> String {
     match &part.kind {
         PartKind::ThinLens { focal_mm, .. } => format!("\nf = {focal_mm} mm"),
         PartKind::Screen { .. } => wb
+            .evaluation
             .report
             .screens
             .iter()

@@ -1,11 +1,9 @@
-//! What the rail view draws, computed from the bench: exactly traced ray paths for the on-axis and off-axis
-//! object points at every wavelength, and the images. Rebuilt whenever the bench changes.
+//! What the rail view draws, projected from the bench's evaluation: the exactly traced ray paths of the
+//! on-axis and off-axis object points at the drawn wavelengths, and the images. Rebuilt whenever the bench
+//! changes; it traces nothing itself.
 
-use lumenrail_bench::compile;
-use lumenrail_bench::model::Bench;
-use lumenrail_optics::paraxial::{self, Object};
-use lumenrail_optics::pupil::{Aimer, FieldPoint, Pupils};
-use lumenrail_optics::trace::trace_path;
+use lumenrail_bench::evaluation::Evaluation;
+use lumenrail_optics::paraxial::Object;
 
 /// One ray as drawn: rail positions and heights, mm.
 #[derive(Debug, Clone, PartialEq)]
@@ -43,80 +41,59 @@ pub struct Scene {
     pub images: Vec<DrawnImage>,
 }
 
-/// Rays per fan, across the stop's diameter.
-pub const FAN_RAYS: usize = 7;
-
-/// The most wavelengths drawn (the first, primary and last when a bench lists more).
-const MAX_DRAWN_WAVELENGTHS: usize = 3;
-
 impl Scene {
-    /// Traces the fans of `bench` for drawing. A bench that cannot be traced gives an empty scene (the
-    /// readout says why).
-    pub fn of(bench: &Bench) -> Scene {
+    /// What the rail draws of `evaluation`: its rail fans as polylines (ending a little past a real final
+    /// image ahead of the light, else 30% of the rail beyond the last surface) and its primary-wavelength
+    /// images. Traces nothing. A bench that cannot be traced gives an empty scene (the readout says why).
+    pub fn of(evaluation: &Evaluation) -> Scene {
         let mut scene = Scene::default();
-        let Ok(compiled) = compile::compile(bench) else { return scene };
-        if compiled.system.surfaces.is_empty() {
-            return scene;
-        }
-        let mut wavelengths: Vec<f64> = bench.wavelengths_nm.clone();
-        if wavelengths.len() > MAX_DRAWN_WAVELENGTHS {
-            let primary = bench.primary_wavelength_nm().unwrap_or(wavelengths[0]);
-            wavelengths = vec![wavelengths[0], primary, *wavelengths.last().expect("non-empty")];
-        }
-        let object = compiled.object;
+        let (Some(compiled), Some(analysis)) = (evaluation.compiled(), evaluation.analysis()) else { return scene };
+        let bench = &evaluation.bench;
         let last_z = compiled.system.surfaces.last().map_or(0.0, |s| s.vertex_z_mm);
         let dir = compiled.final_direction;
-        for &wl in &wavelengths {
-            let Ok(seq) = compiled.system.at(wl) else { continue };
-            let Ok(pupils) = Pupils::find(&seq, &object) else { continue };
-            let images = paraxial::images(&seq, &object);
-            if Some(wl) == bench.primary_wavelength_nm() {
-                scene.images = images
-                    .iter()
-                    .filter_map(|i| Some(DrawnImage { at_mm: i.at_mm?, height_mm: i.height_mm?, real: i.real }))
-                    .collect();
-            }
-            let final_image = images.last().and_then(|i| i.at_mm.map(|z| (z, i.real)));
-            // Where the drawn rays end: the final real image if it lies ahead, else 30% of the rail further on.
+        scene.images = analysis
+            .images()
+            .iter()
+            .filter_map(|i| Some(DrawnImage { at_mm: i.at_mm?, height_mm: i.height_mm?, real: i.real }))
+            .collect();
+        for fan in &evaluation.rail_fans {
+            let Some(w) =
+                analysis.wavelengths.iter().find(|w| w.seq.wavelength_nm.total_cmp(&fan.wavelength_nm).is_eq())
+            else {
+                continue;
+            };
+            let final_image = w.images.last().and_then(|i| i.at_mm.map(|z| (z, i.real)));
             let end_z = match final_image {
                 Some((z, true)) if (z - last_z) * dir > 0.0 => z + dir * 0.05 * bench.rail_length_mm,
                 _ => last_z + dir * 0.3 * bench.rail_length_mm,
             };
-            for field in [FieldPoint::OnAxis, FieldPoint::OffAxis] {
-                let aimer = Aimer::new(&seq, object, &pupils, field);
-                let mut guess = None;
-                for k in 0..FAN_RAYS {
-                    let rho = -1.0 + 2.0 * k as f64 / (FAN_RAYS - 1) as f64;
-                    let h = rho * pupils.stop_semi_mm * (1.0 - 1e-9);
-                    let Ok((ray, p)) = aimer.ray_for(h, guess) else { continue };
-                    guess = Some(p);
-                    let path = trace_path(&seq, ray);
-                    let start = match object {
-                        Object::Finite { .. } => (ray.z_mm, ray.y_mm),
-                        // A distant object's rays come in from the rail's start.
-                        Object::Distant { .. } => {
-                            let z0 = 0.0_f64.min(ray.z_mm);
-                            (z0, ray.height_at(z0))
-                        }
-                    };
-                    let mut points = vec![start];
-                    points.extend(path.intercepts.iter().map(|i| (i.z_mm, i.y_mm)));
-                    let mut virtual_from = None;
-                    let blocked = path.outcome.is_err();
-                    if let Ok(out) = path.outcome {
-                        points.push((end_z, out.height_at(end_z)));
-                        if let Some((z, false)) = final_image {
-                            virtual_from = Some((z, out.height_at(z)));
-                        }
+            for path in &fan.paths {
+                let ray = path.start;
+                let start = match compiled.object {
+                    Object::Finite { .. } => (ray.z_mm, ray.y_mm),
+                    // A distant object's rays come in from the rail's start.
+                    Object::Distant { .. } => {
+                        let z0 = 0.0_f64.min(ray.z_mm);
+                        (z0, ray.height_at(z0))
                     }
-                    scene.rays.push(DrawnRay {
-                        points,
-                        virtual_from,
-                        wavelength_nm: wl,
-                        off_axis: field == FieldPoint::OffAxis,
-                        blocked,
-                    });
+                };
+                let mut points = vec![start];
+                points.extend(path.intercepts.iter().map(|i| (i.z_mm, i.y_mm)));
+                let mut virtual_from = None;
+                let blocked = path.outcome.is_err();
+                if let Ok(out) = path.outcome {
+                    points.push((end_z, out.height_at(end_z)));
+                    if let Some((z, false)) = final_image {
+                        virtual_from = Some((z, out.height_at(z)));
+                    }
                 }
+                scene.rays.push(DrawnRay {
+                    points,
+                    virtual_from,
+                    wavelength_nm: fan.wavelength_nm,
+                    off_axis: fan.off_axis,
+                    blocked,
+                });
             }
         }
         // A ray that missed the first surface has only its start: nothing to draw.
@@ -165,8 +142,8 @@ mod tests {
     fn a_demo_scene_has_fans_and_an_image() {
         let text = lumenrail_bench::demos::find("one-lens-screen").unwrap().text;
         let bench = lumenrail_bench::file::parse("demo", text).unwrap().bench;
-        let scene = Scene::of(&bench);
-        assert_eq!(scene.rays.len(), 3 * 2 * FAN_RAYS);
+        let scene = Scene::of(&Evaluation::of(&bench));
+        assert_eq!(scene.rays.len(), 3 * 2 * lumenrail_bench::evaluation::RAIL_FAN_RAYS);
         assert_eq!(scene.images.len(), 1);
         assert!((scene.images[0].at_mm - 450.0).abs() < 1e-9);
     }

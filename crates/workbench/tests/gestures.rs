@@ -121,11 +121,11 @@ fn an_invalid_entry_shows_its_message_and_changes_nothing() {
 #[test]
 fn move_screen_to_best_focus_makes_its_spot_the_best_focus_spot() {
     let mut h = harness("plano-convex-flat-first");
-    let screen = h.state().report.screens[0].clone();
+    let screen = h.state().evaluation.report.screens[0].clone();
     assert!(screen.move_to_best_focus_mm.unwrap().abs() > 1.0);
     h.get_by_label("Move Screen to best focus").click();
     h.run();
-    let now = &h.state().report.screens[0];
+    let now = &h.state().evaluation.report.screens[0];
     assert!((now.at_mm - screen.best_focus_at_mm.unwrap()).abs() < 1e-12);
     assert!(
         (now.rms_spot_um.unwrap() - screen.best_rms_spot_um.unwrap()).abs() < 1e-6 * screen.best_rms_spot_um.unwrap()
@@ -181,7 +181,7 @@ fn a_glass_given_by_nd_and_vd_changes_the_focal_length_by_the_lensmaker() {
     ));
     replace_text(&mut h, "nd", "1.6");
     // Plano-convex: f = R/(n − 1) = 51.7/0.6 (lensmaker's equation).
-    let efl = h.state().report.first_order.efl_mm.unwrap();
+    let efl = h.state().evaluation.report.first_order.efl_mm.unwrap();
     assert!((efl - 51.7 / 0.6).abs() < 1e-9, "{efl}");
 }
 

@@ -22,7 +22,7 @@ fn shown_on_axis_rms(h: &Harness<'_, Workbench>) -> String {
 }
 
 fn expected_on_axis_rms(wb: &Workbench) -> String {
-    let views = Views::of(&wb.bench, &Report::of(&wb.bench), &wb.views.request);
+    let views = Views::of(&lumenrail_bench::evaluation::Evaluation::of(&wb.bench), &wb.views.request);
     let s = views
         .spot
         .unwrap()
