@@ -287,10 +287,11 @@ impl Placer {
         })
     }
 
-    /// Moves part `index` to `at_mm`. Refused when that changes the order of the surfaces along the light
-    /// path (then the bench must be compiled again).
+    /// Moves part `index` to `at_mm`. Refused, leaving the part where it was, when that changes the order
+    /// of the surfaces along the light path (then the bench must be evaluated in full).
     pub fn place(&mut self, index: usize, at_mm: f64) -> Result<(), PlaceError> {
         let surfaces = self.surfaces_of.get(index).ok_or(PlaceError::NoPart(index))?;
+        let was = self.at_mm[index];
         for &k in surfaces {
             self.seq.steps[k].z_mm = at_mm + self.offsets[k];
         }
@@ -303,7 +304,15 @@ impl Placer {
         };
         let in_order = start.is_none_or(|z| steps.first().is_none_or(|s| s.z_mm >= z))
             && steps.windows(2).all(|w| (w[1].z_mm - w[0].z_mm) * w[0].dir_after >= 0.0);
-        if in_order { Ok(()) } else { Err(PlaceError::OrderChanged) }
+        if in_order {
+            return Ok(());
+        }
+        // Put the part back where it was, so the placer stays usable.
+        for &k in &self.surfaces_of[index] {
+            self.seq.steps[k].z_mm = was + self.offsets[k];
+        }
+        self.at_mm[index] = was;
+        Err(PlaceError::OrderChanged)
     }
 
     /// First order, the stop, the final image and the on-axis RMS spot at the target plane, for the

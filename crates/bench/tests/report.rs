@@ -50,3 +50,95 @@ fn an_intermediate_screen_shows_the_light_that_reaches_it() {
     // The end screen still has its own figures, from the whole bench.
     assert!(whole.screens[1].after_last_part && whole.screens[1].rms_spot_um.is_some());
 }
+
+fn rel(a: f64, b: f64) -> f64 {
+    (a - b).abs() / b.abs()
+}
+
+/// A focal distance belongs to the optics: an iris before or after a thin lens of f = 100 mm does not
+/// change its FFL or BFL, both exactly f (Gaussian optics of a thin lens, Hecht, *Optics*, sec. 5.2).
+#[test]
+fn an_iris_before_or_after_a_lens_does_not_change_its_focal_distances() {
+    for (iris, lens) in [(250.0, 300.0), (350.0, 300.0), (290.0, 300.0)] {
+        let r = report(&format!(
+            r#"(format: 1, title: "t", rail_length_mm: 800.0, wavelengths_nm: [587.5618], primary_wavelength: 0,
+                object: Distant(field_deg: 1.0, beam_diameter_mm: 20.0), parts: [
+                (name: "Lens", at_mm: {lens}, kind: ThinLens(focal_mm: 100.0, diameter_mm: 40.0)),
+                (name: "Iris", at_mm: {iris}, kind: Iris(diameter_mm: 10.0)),
+                (name: "Screen", at_mm: 400.0, kind: Screen(diameter_mm: 40.0))])"#
+        ));
+        let f = &r.first_order;
+        assert!(rel(f.ffl_mm.unwrap(), 100.0) < 1e-12, "iris at {iris}: FFL {:?}", f.ffl_mm);
+        assert!(rel(f.bfl_mm.unwrap(), 100.0) < 1e-12, "iris at {iris}: BFL {:?}", f.bfl_mm);
+        assert!(rel(f.back_focus_at_mm.unwrap(), 400.0) < 1e-12);
+        // One imaging part, one image: nothing is listed "after" the iris.
+        assert_eq!(r.images.len(), 1, "{:?}", r.images);
+        assert_eq!(r.images[0].after_part, "Lens");
+    }
+}
+
+/// A concave mirror (R = −200 mm, f = 100 mm) 300 mm from the object images it 150 mm in front of itself,
+/// real and inverted at m = −0.5 (mirror equation 1/s + 1/s′ = 2/R, Hecht, sec. 5.4), although the
+/// returning light passes an iris before it converges: the image is listed once, as real.
+#[test]
+fn a_concave_mirror_image_stays_real_behind_an_iris_on_the_way_back() {
+    let r = report(
+        r#"(format: 1, title: "t", rail_length_mm: 800.0, wavelengths_nm: [587.5618], primary_wavelength: 0,
+            object: Point(at_mm: 200.0, height_mm: 2.0), parts: [
+            (name: "Iris", at_mm: 420.0, kind: Iris(diameter_mm: 30.0)),
+            (name: "Mirror", at_mm: 500.0, kind: Mirror(surface: Radius(-200.0), diameter_mm: 50.0))])"#,
+    );
+    assert_eq!(r.images.len(), 1, "{:?}", r.images);
+    let img = &r.images[0];
+    assert_eq!(img.after_part, "Mirror");
+    assert!(img.real && !img.erect, "{img:?}");
+    assert!((img.at_mm.unwrap() - 350.0).abs() < 1e-9, "{img:?}");
+    assert!((img.magnification.unwrap() + 0.5).abs() < 1e-12, "{img:?}");
+}
+
+/// L1 (f = 50 mm, 100 mm from the object) would image it at 200 mm, but L2 (f = 100 mm) at 150 mm meets
+/// the converging light first: the intermediate image is real and intercepted (a virtual object 50 mm
+/// beyond L2), and L2 forms the final image at 150 + 1/(1/100 + 1/50) = 183.333 mm (Gaussian imaging,
+/// Hecht, sec. 5.2).
+#[test]
+fn a_real_image_that_the_next_lens_intercepts_is_called_so() {
+    let r = report(
+        r#"(format: 1, title: "t", rail_length_mm: 800.0, wavelengths_nm: [587.5618], primary_wavelength: 0,
+            object: Point(at_mm: 0.0, height_mm: 2.0), parts: [
+            (name: "L1", at_mm: 100.0, kind: ThinLens(focal_mm: 50.0, diameter_mm: 30.0)),
+            (name: "L2", at_mm: 150.0, kind: ThinLens(focal_mm: 100.0, diameter_mm: 30.0))])"#,
+    );
+    assert_eq!(r.images.len(), 2);
+    let first = &r.images[0];
+    assert!(first.real, "{first:?}");
+    assert_eq!(first.intercepted_by.as_deref(), Some("L2"));
+    assert!(rel(first.at_mm.unwrap(), 200.0) < 1e-12);
+    let last = &r.images[1];
+    assert!(last.real && last.intercepted_by.is_none());
+    assert!(rel(last.at_mm.unwrap(), 150.0 + 100.0 / 3.0) < 1e-12, "{last:?}");
+    let text = r.to_text();
+    assert!(text.contains("a real image that \"L2\" intercepts (a virtual object for it)"), "{text}");
+}
+
+/// The text report has no stray space before a comma.
+#[test]
+fn the_text_report_has_no_space_before_a_comma() {
+    let r = report(&bench(FRONT));
+    let text = r.to_text();
+    assert!(text.contains("entrance pupil") && !text.contains(" ,"), "{text}");
+}
+
+/// Warnings are typed: kind, part and field travel with the message (JSON too).
+#[test]
+fn warnings_name_their_kind_and_part() {
+    let r = report(&bench(
+        r#"(name: "Lens", at_mm: 100.0, kind: ThinLens(focal_mm: 50.0, diameter_mm: 30.0), carrier_mm: 30.0),
+           (name: "Screen", at_mm: 110.0, kind: Screen(diameter_mm: 40.0), carrier_mm: 30.0)"#,
+    ));
+    let w = r.warnings.iter().find(|w| w.kind == lumenrail_bench::report::WarningKind::Layout).expect("overlap");
+    assert!(w.part.is_some() && w.field == Some("carrier_mm"), "{w:?}");
+    let json: serde_json::Value = serde_json::from_str(&r.to_json()).unwrap();
+    let first = &json["warnings"][0];
+    assert_eq!(first["kind"], "layout");
+    assert!(first["message"].as_str().unwrap().contains("overlap"), "{first}");
+}

@@ -140,3 +140,26 @@ fn clicking_a_screen_points_the_spot_view_at_it() {
     h.run();
     assert!(h.query_by_label_contains("At screen \"Ground glass\" (170.000 mm)").is_some());
 }
+
+/// Dragging a part is one revision per frame: one compilation and one analysis, whatever the rail, the
+/// readout, the focal marks of the selected part and the open view draw; frames without a change compile
+/// and analyse nothing (the bench crate's thread-local counters).
+#[test]
+fn a_moved_part_is_evaluated_once_and_every_panel_projects_it() {
+    use lumenrail_bench::evaluation::counters;
+    for tab in ViewKind::ALL {
+        let mut h = harness("camera-meniscus");
+        h.state_mut().views.tab = tab;
+        h.state_mut().selected = Some(1);
+        h.run();
+        let before = counters();
+        h.run();
+        assert_eq!(counters(), before, "{tab:?}: an unchanged frame evaluated again");
+        let at = h.state().bench.parts[1].at_mm + 0.5;
+        h.state_mut().apply(lumenrail_workbench::Edit::Move { index: 1, at_mm: at }, Some("test"));
+        h.run();
+        let after = counters();
+        assert_eq!(after.compilations - before.compilations, 1, "{tab:?}");
+        assert_eq!(after.analyses - before.analyses, 1, "{tab:?}");
+    }
+}

@@ -1,0 +1,125 @@
+//! The one evaluation stage: one compilation and one analysis per revision, projections that compute
+//! nothing, and the cheap placement path against the full evaluation and against full pupil sampling.
+
+use lumenrail_bench::demos::DEMOS;
+use lumenrail_bench::evaluation::{Evaluation, PlaceError, Placer, counters};
+use lumenrail_bench::file::parse;
+use lumenrail_bench::model::{Bench, PartKind};
+use lumenrail_bench::views::{ViewRequest, Views};
+use lumenrail_optics::sampling::{Grid, trace_grid};
+
+fn bench(text: &str) -> Bench {
+    parse("test", text).unwrap_or_else(|e| panic!("{e}")).bench
+}
+
+/// Evaluating a bench compiles it once and analyses it once; the views, every one of them, compile and
+/// analyse nothing more (thread-local counters, so tests running beside this one do not count).
+#[test]
+fn one_revision_is_compiled_and_analysed_once() {
+    for d in DEMOS {
+        let b = bench(d.text);
+        let before = counters();
+        let e = Evaluation::of(&b);
+        let after = counters();
+        assert_eq!(after.compilations - before.compilations, 1, "{}", d.name);
+        assert_eq!(after.analyses - before.analyses, 1, "{}", d.name);
+        let _ = Views::of(&e, &ViewRequest::default());
+        let _ = e.report.to_json();
+        assert_eq!(counters(), after, "{}: the views or the report evaluated again", d.name);
+    }
+}
+
+/// The first lens or mirror on the rail.
+fn first_optic(b: &Bench) -> usize {
+    b.rail_order()
+        .into_iter()
+        .find(|&i| !matches!(b.parts[i].kind, PartKind::Screen { .. } | PartKind::Iris { .. }))
+        .unwrap()
+}
+
+/// After a part moves, the cheap path gives the full evaluation's first order, final image and on-axis
+/// RMS spot on the last screen. First order to 1e-12 relative (the same paraxial trace on the same
+/// numbers); the RMS to 1e-9 relative: the cheap path keeps the ring count the full evaluation settled at
+/// before the move, while the full one settles again (to 1e-9 of itself).
+#[test]
+fn the_cheap_path_agrees_with_the_full_evaluation() {
+    let mut checked = 0;
+    for d in DEMOS {
+        let mut b = bench(d.text);
+        let e = Evaluation::of(&b);
+        let Ok(mut placer) = Placer::new(&e) else { continue };
+        let i = first_optic(&b);
+        let to = b.parts[i].at_mm + 1.5;
+        if placer.place(i, to).is_err() {
+            continue;
+        }
+        let quick = placer.figures();
+        b.parts[i].at_mm = to;
+        let full = Evaluation::of(&b);
+        let close = |a: Option<f64>, b: Option<f64>, tol: f64| match (a, b) {
+            (Some(a), Some(b)) => (a - b).abs() <= tol * b.abs().max(1e-300) + 1e-15,
+            (None, None) => true,
+            _ => false,
+        };
+        let fo = &full.report.first_order;
+        assert!(close(quick.first_order.and_then(|f| f.efl_mm), fo.efl_mm, 1e-12), "{}", d.name);
+        assert!(close(quick.first_order.and_then(|f| f.bfl_mm), fo.bfl_mm, 1e-12), "{}", d.name);
+        assert!(close(quick.image_at_mm, full.report.images.last().and_then(|i| i.at_mm), 1e-12), "{}", d.name);
+        if let Some(screen) = full.report.screens.last().filter(|s| s.after_last_part)
+            && let Some(rms_um) = screen.rms_spot_um
+        {
+            let q = quick.rms_mm.expect("the cheap path reaches the screen") * 1e3;
+            assert!((q - rms_um).abs() <= 1e-9 * rms_um + 1e-12, "{}: {q} vs {rms_um} µm", d.name);
+            checked += 1;
+        }
+    }
+    assert!(checked >= 8, "only {checked} demos compared");
+}
+
+/// The on-axis RMS spot of the cheap path (meridional rays on Gauss rings in ρ², by rotational symmetry)
+/// against full pupil sampling: a dense Gauss-rings grid of skew rays (32 rings × 64 arms, aimed through
+/// the real stop in two dimensions), whose weights integrate the pupil's area (Forbes 1988). Both are
+/// quadratures of the same integral; they agree to 1e-9 relative.
+#[test]
+fn the_cheap_spot_matches_full_pupil_sampling() {
+    let mut checked = 0;
+    for d in DEMOS {
+        let b = bench(d.text);
+        let e = Evaluation::of(&b);
+        let Ok(placer) = Placer::new(&e) else { continue };
+        let (Some(a), Some(&screen)) = (e.analysis(), e.screens.last()) else { continue };
+        let quick = placer.figures();
+        let (Some(rms), Ok(pupils)) = (quick.rms_mm, a.pupils()) else { continue };
+        if !e.report.screens.last().is_some_and(|s| s.after_last_part) || rms < 1e-9 {
+            continue;
+        }
+        let z = b.parts[screen].at_mm;
+        let object = e.compiled().unwrap().object;
+        let grid = Grid::GaussRings { rings: 32, arms: 64 }.samples();
+        let traced = trace_grid(a.seq(), object, pupils, 0.0, &grid).unwrap();
+        assert_eq!(traced.lost, 0, "{}", d.name);
+        let ms: f64 = traced
+            .rays
+            .iter()
+            .map(|(s, r)| {
+                let (x, y) = r.at_plane(z);
+                s.weight * (x * x + y * y)
+            })
+            .sum();
+        let full = ms.sqrt();
+        assert!((rms - full).abs() <= 1e-9 * full, "{}: cheap {rms} vs full sampling {full} mm", d.name);
+        checked += 1;
+    }
+    assert!(checked >= 5, "only {checked} demos compared");
+}
+
+/// A move that changes the order the light meets the parts is refused (the bench must be compiled anew).
+#[test]
+fn the_cheap_path_refuses_a_move_past_a_neighbour() {
+    let b = bench(lumenrail_bench::demos::find("unit-relay").unwrap().text);
+    let e = Evaluation::of(&b);
+    let mut placer = Placer::new(&e).unwrap();
+    let a = b.parts.iter().position(|p| p.name == "Relay A").unwrap();
+    assert_eq!(placer.place(a, 350.0), Err(PlaceError::OrderChanged));
+    assert!(placer.place(a, 120.0).is_ok());
+}
