@@ -7,7 +7,7 @@
 use crate::field::{chief_height_at, field_sample};
 use crate::paraxial::{self, FirstOrder, Object, ParaxialImage};
 use crate::pupil::{FieldPoint, PupilError, Pupils, meridional_transmission};
-use crate::sampling::pupil_transmission;
+use crate::sampling::{SkewAimer, pupil_transmission_integrated, rim_clears_with};
 use crate::seidel::{Seidel, seidel};
 use crate::spot::{SpotError, SpotFigures, spot_figures};
 use crate::system::{Sequence, System, SystemError};
@@ -320,8 +320,16 @@ pub fn analyse_wavelengths(wavelengths: Vec<Wavelength>, request: &Request) -> R
     }));
     analysis.partial_spots = request.partial_planes.iter().map(|plane| partial_spot(seq, object, *plane)).collect();
     if request.vignetting {
-        analysis.off_axis_transmission = Some(meridional_transmission(seq, object, p, FieldPoint::OffAxis));
-        analysis.off_axis_area_transmission = pupil_transmission(seq, object, p, 1.0).ok();
+        // A field whose rim clears every aperture passes whole: both shares are exactly 1.
+        let aimer = SkewAimer::new(seq, object, p, 1.0);
+        if aimer.as_ref().is_ok_and(|a| rim_clears_with(seq, a, p)) {
+            analysis.off_axis_transmission = Some(1.0);
+            analysis.off_axis_area_transmission = Some(1.0);
+        } else {
+            analysis.off_axis_transmission = Some(meridional_transmission(seq, object, p, FieldPoint::OffAxis));
+            analysis.off_axis_area_transmission =
+                aimer.ok().and_then(|a| pupil_transmission_integrated(seq, &a, 1.0).ok());
+        }
     }
     analysis.field = field_figures(&analysis, object);
     Ok(analysis)
