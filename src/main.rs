@@ -183,12 +183,12 @@ fn export(
     }
     let mut outputs: Vec<(&Path, Option<Vec<u8>>)> = Vec::new();
     if let Some(p) = csv {
-        outputs.push((p, views.csv(kind).map(String::into_bytes)));
+        outputs.push((p, lumenrail_export::csv::view_csv(&views, kind).map(String::into_bytes)));
     }
     if let Some(p) = png {
-        let has_data = views.csv(kind).is_some();
-        let picture = lumenrail_workbench::plots::view_png(&views, kind, &bench.title);
-        outputs.push((p, has_data.then(|| lumenrail_workbench::plots::encode_png(&picture)).flatten()));
+        let has_data = lumenrail_export::csv::view_csv(&views, kind).is_some();
+        let picture = lumenrail_export::plots::view_png(&views, kind, &bench.title);
+        outputs.push((p, has_data.then(|| lumenrail_export::plots::encode_png(&picture)).flatten()));
     }
     for (out, bytes) in outputs {
         let Some(bytes) = bytes else {

@@ -19,8 +19,7 @@ fn views(b: &Bench) -> (Report, Views) {
     (e.report, v)
 }
 
-/// Every number of every view of every demo is finite, and every view that has data exports a CSV whose
-/// rows match its header.
+/// Every number of every view of every demo is finite (the CSV of each is checked in `lumenrail-export`).
 #[test]
 fn every_demo_has_finite_views() {
     for d in DEMOS {
@@ -48,13 +47,6 @@ fn every_demo_has_finite_views() {
                 finite(p.tangential_mm);
                 finite(p.sagittal_mm);
             });
-        }
-        for kind in ViewKind::ALL {
-            if let Some(csv) = v.csv(kind) {
-                let mut lines = csv.lines();
-                let columns = lines.next().unwrap().split(',').count();
-                assert!(lines.all(|l| l.split(',').count() == columns), "{} {kind:?}", d.name);
-            }
         }
         // Demos with a final image have every view; the others say why they have no image plane.
         let at_infinity = Report::of(&b).images.last().unwrap().at_mm.is_none();

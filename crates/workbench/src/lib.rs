@@ -6,7 +6,6 @@
 //! the report and the drawn rays are recomputed from the document, never patched by hand.
 
 pub mod app;
-pub mod picture;
 pub mod plots;
 mod rail;
 pub mod scene;

@@ -1,15 +1,12 @@
-//! The analysis views drawn with egui_plot: spot, fan, sweep, colour and field. The same drawing serves the
-//! workbench's views panel and the PNG export ([`view_png`], drawn without a window by
-//! [`crate::picture`]); the numbers are [`lumenrail_bench::views::Views`], never recomputed here.
+//! The views panel: the analysis views of the bench's evaluation (drawn by `lumenrail-export`'s plots,
+//! the same drawing the PNG export makes), their tabs, plane and pupil-pattern choices and exports. The
+//! views are computed only for the tab on show, and only when the bench's revision or the request changes.
 
-use crate::scene::wavelength_rgb;
 use crate::{PathPrompt, Workbench};
-use egui::Color32;
-use egui_plot::{HLine, Legend, Line, LineStyle, Plot, PlotPoints, Points, Span, VLine};
 use lumenrail_bench::file::write_atomic;
 use lumenrail_bench::model::PartKind;
 use lumenrail_bench::report::fixed;
-use lumenrail_bench::views::{Plane, Point, ViewKind, ViewRequest, Views};
+use lumenrail_bench::views::{Plane, ViewKind, ViewRequest, Views};
 use lumenrail_optics::sampling::Grid;
 use std::path::{Path, PathBuf};
 
@@ -31,6 +28,8 @@ impl Default for ViewsPanel {
         ViewsPanel { shown: true, tab: ViewKind::Spot, request: ViewRequest::default(), plane_mm: 0.0, cache: None }
     }
 }
+
+pub use lumenrail_export::plots::{draw_view, encode_png, view_png};
 
 /// The pupil grids offered for the spot diagram (each shown by [`Grid::label`], with its ray count).
 pub const GRIDS: [Grid; 3] =
@@ -75,8 +74,11 @@ impl Workbench {
     pub fn export_view(&mut self, kind: ViewKind, png: bool, path: &Path) -> bool {
         let title = self.bench.title.clone();
         let views = self.views_of(kind);
-        let bytes =
-            if png { encode_png(&view_png(views, kind, &title)) } else { views.csv(kind).map(String::into_bytes) };
+        let bytes = if png {
+            encode_png(&view_png(views, kind, &title))
+        } else {
+            lumenrail_export::csv::view_csv(views, kind).map(String::into_bytes)
+        };
         let Some(bytes) = bytes else {
             self.status = format!("the {} view has nothing to export: {}", kind.word(), views.notes.join("; "));
             return false;
@@ -108,265 +110,6 @@ impl Workbench {
             .unwrap_or_else(|| "bench".into());
         format!("{stem}-{}.{}", kind.word(), if png { "png" } else { "csv" })
     }
-}
-
-/// A PNG file's bytes.
-pub fn encode_png(img: &image::RgbaImage) -> Option<Vec<u8>> {
-    let mut bytes = Vec::new();
-    img.write_to(&mut std::io::Cursor::new(&mut bytes), image::ImageFormat::Png).ok()?;
-    Some(bytes)
-}
-
-/// One view drawn without a window, 1200 × 640 points at 1.5 pixels per point, with the bench's title.
-pub fn view_png(views: &Views, kind: ViewKind, title: &str) -> image::RgbaImage {
-    crate::picture::render(1200.0, 640.0, 1.5, |ui| {
-        ui.heading(format!("{title}: {} view", kind.word()));
-        draw_view(ui, views, kind, false, 470.0);
-    })
-}
-
-/// The colour of a series: its wavelength's, darkened on a light background so yellow stays legible.
-fn series_colour(ui: &egui::Ui, wavelength_nm: f64) -> Color32 {
-    let [r, g, b] = wavelength_rgb(wavelength_nm);
-    if ui.visuals().dark_mode {
-        Color32::from_rgb(r, g, b)
-    } else {
-        let d = |c: u8| (f32::from(c) * 0.7) as u8;
-        Color32::from_rgb(d(r), d(g), d(b))
-    }
-}
-
-fn style(point: Point) -> LineStyle {
-    match point {
-        Point::OnAxis => LineStyle::Solid,
-        Point::OffAxis => LineStyle::dashed_dense(),
-    }
-}
-
-fn name(point: Point, wavelength_nm: f64) -> String {
-    format!("{} {} nm", point.word(), fixed(wavelength_nm, 1))
-}
-
-/// A plot with the views' common settings: hover shows values with units, and a static export turns
-/// interaction off.
-fn plot<'a>(id: &str, x_label: &'a str, y_label: &'a str, interactive: bool, height: f32) -> Plot<'a> {
-    let (xl, yl) = (x_label.to_string(), y_label.to_string());
-    Plot::new(id)
-        .legend(Legend::default())
-        .x_axis_label(x_label)
-        .y_axis_label(y_label)
-        .height(height)
-        .allow_drag(interactive)
-        .allow_zoom(interactive)
-        .allow_scroll(interactive)
-        .allow_boxed_zoom(interactive)
-        .show_crosshair(interactive)
-        .label_formatter(move |pos| {
-            Some(match pos {
-                egui_plot::HoverPosition::NearDataPoint { plot_name, position, .. } => {
-                    format!("{plot_name}\n{xl}: {:.4}\n{yl}: {:.4}", position.x, position.y)
-                }
-                egui_plot::HoverPosition::Elsewhere { position } => {
-                    format!("{xl}: {:.4}\n{yl}: {:.4}", position.x, position.y)
-                }
-            })
-        })
-}
-
-fn circle(cx: f64, cy: f64, r: f64) -> PlotPoints<'static> {
-    (0..=96).map(|j| j as f64 * std::f64::consts::TAU / 96.0).map(|t| [cx + r * t.cos(), cy + r * t.sin()]).collect()
-}
-
-/// Draws one view into `ui`: two plots side by side, `height` points tall, with the figures beneath.
-pub fn draw_view(ui: &mut egui::Ui, views: &Views, kind: ViewKind, interactive: bool, height: f32) {
-    match kind {
-        ViewKind::Spot => spot_ui(ui, views, interactive, height),
-        ViewKind::Fan => fan_ui(ui, views, interactive, height),
-        ViewKind::Sweep => sweep_ui(ui, views, interactive, height),
-        ViewKind::Colour => colour_ui(ui, views, interactive, height),
-        ViewKind::Field => field_ui(ui, views, interactive, height),
-    }
-    for n in &views.notes {
-        ui.label(n);
-    }
-}
-
-fn spot_ui(ui: &mut egui::Ui, views: &Views, interactive: bool, height: f32) {
-    let Some(v) = &views.spot else { return };
-    ui.label(format!(
-        "At {} ({} mm). Dots from each point's centroid at the primary wavelength, µm; solid circle: Airy disk{}; \
-         dashed: RMS radius.",
-        v.plane_label,
-        fixed(v.plane_at_mm, 3),
-        v.airy_radius_mm.map_or_else(String::new, |a| format!(" ({} µm)", fixed(a * 1e3, 2)))
-    ));
-    let points: Vec<Point> =
-        [Point::OnAxis, Point::OffAxis].into_iter().filter(|p| v.series.iter().any(|s| s.point == *p)).collect();
-    ui.columns(points.len().max(1), |cols| {
-        for (col, &point) in cols.iter_mut().zip(&points) {
-            let series: Vec<_> = v.series.iter().filter(|s| s.point == point).collect();
-            let reference = series.iter().find(|s| (s.wavelength_nm - v.primary_nm).abs() < 1e-9).or(series.first());
-            let Some(reference) = reference else { continue };
-            let (rx, ry) = reference.centroid;
-            let colours: Vec<Color32> = series.iter().map(|s| series_colour(col, s.wavelength_nm)).collect();
-            let axis = if point == Point::OnAxis { "on-axis" } else { "off-axis" };
-            plot(&format!("spot {axis}"), "x, µm", "y, µm", interactive, height).data_aspect(1.0).show(col, |p| {
-                for (s, c) in series.iter().zip(&colours) {
-                    let pts: PlotPoints = s.rays.iter().map(|r| [(r.x_mm - rx) * 1e3, (r.y_mm - ry) * 1e3]).collect();
-                    p.points(Points::new(name(s.point, s.wavelength_nm), pts).color(*c).radius(1.6));
-                    let (cx, cy) = ((s.centroid.0 - rx) * 1e3, (s.centroid.1 - ry) * 1e3);
-                    p.line(
-                        Line::new(name(s.point, s.wavelength_nm), circle(cx, cy, s.rms_mm * 1e3))
-                            .color(*c)
-                            .style(LineStyle::dashed_loose()),
-                    );
-                }
-                if let Some(a) = v.airy_radius_mm {
-                    p.line(Line::new("Airy disk", circle(0.0, 0.0, a * 1e3)).color(Color32::GRAY));
-                }
-            });
-            for s in &series {
-                col.label(format!(
-                    "{}: RMS {} µm, geometric {} µm, centroid ({}, {}) mm{}",
-                    name(s.point, s.wavelength_nm),
-                    fixed(s.rms_mm * 1e3, 3),
-                    fixed(s.geometric_mm * 1e3, 3),
-                    fixed(s.centroid.0, 4),
-                    fixed(s.centroid.1, 4),
-                    match s.transmission {
-                        Some(t) if t < 1.0 - 5e-4 => format!(", {}% of the pupil gets through", fixed(100.0 * t, 1)),
-                        _ if s.lost > 0 => format!(", {} of the grid's rays stopped", s.lost),
-                        _ => String::new(),
-                    }
-                ));
-            }
-        }
-    });
-}
-
-fn fan_ui(ui: &mut egui::Ui, views: &Views, interactive: bool, height: f32) {
-    let Some(v) = &views.fan else { return };
-    ui.label(format!(
-        "Transverse ray error at {} mm from each point's chief ray at the primary wavelength, µm; solid on-axis, \
-         dashed off-axis.",
-        fixed(v.plane_at_mm, 3)
-    ));
-    ui.columns(2, |cols| {
-        for (k, col) in cols.iter_mut().enumerate() {
-            let (id, x_label, y_label) = if k == 0 {
-                ("fan tangential", "pupil height, tangential (−1 to 1)", "ray error in y, µm")
-            } else {
-                ("fan sagittal", "pupil width, sagittal (−1 to 1)", "ray error in x, µm")
-            };
-            let colours: Vec<Color32> = v.series.iter().map(|s| series_colour(col, s.wavelength_nm)).collect();
-            plot(id, x_label, y_label, interactive, height).show(col, |p| {
-                for (s, c) in v.series.iter().zip(&colours) {
-                    let data = if k == 0 { &s.tangential } else { &s.sagittal };
-                    let pts: PlotPoints = data.iter().map(|(q, e)| [*q, e * 1e3]).collect();
-                    p.line(Line::new(name(s.point, s.wavelength_nm), pts).color(*c).style(style(s.point)).width(1.5));
-                }
-            });
-        }
-    });
-}
-
-fn sweep_ui(ui: &mut egui::Ui, views: &Views, interactive: bool, height: f32) {
-    let Some(v) = &views.sweep else { return };
-    ui.label(format!(
-        "RMS spot radius through focus, µm. On-axis best focus {} mm{}; the spot view's plane (a vertical line) is marked.",
-        fixed(v.best_focus_at_mm, 3),
-        v.depth_of_focus_mm.map_or_else(String::new, |d| format!(", depth of focus ±{} mm (shaded)", fixed(d, 4)))
-    ));
-    let colours: Vec<Color32> = v.series.iter().map(|s| series_colour(ui, s.wavelength_nm)).collect();
-    let text = ui.visuals().text_color();
-    let plane_label = views.spot.as_ref().map_or_else(|| "view plane".to_string(), |s| s.plane_label.clone());
-    plot("sweep", "plane, mm", "RMS radius, µm", interactive, height).show(ui, |p| {
-        if let Some(d) = v.depth_of_focus_mm {
-            p.span(Span::new("depth of focus", (v.best_focus_at_mm - d)..=(v.best_focus_at_mm + d)));
-        }
-        for (s, c) in v.series.iter().zip(&colours) {
-            let pts: PlotPoints = s.samples.iter().map(|(z, r)| [*z, r * 1e3]).collect();
-            p.line(Line::new(name(s.point, s.wavelength_nm), pts).color(*c).style(style(s.point)).width(1.5));
-        }
-        if let Some(a) = v.airy_radius_mm {
-            p.hline(HLine::new("Airy radius", a * 1e3).color(Color32::GRAY).style(LineStyle::dashed_loose()));
-        }
-        p.vline(VLine::new(plane_label, v.plane_at_mm).color(text));
-    });
-    for s in &v.series {
-        ui.label(format!(
-            "{}: least RMS {} µm at {} mm",
-            name(s.point, s.wavelength_nm),
-            fixed(s.best.1 * 1e3, 3),
-            fixed(s.best.0, 4)
-        ));
-    }
-}
-
-fn colour_ui(ui: &mut egui::Ui, views: &Views, interactive: bool, height: f32) {
-    let Some(v) = &views.colour else { return };
-    let primary_focus =
-        v.samples.iter().find(|s| (s.wavelength_nm - v.primary_nm).abs() < 1e-9).and_then(|s| s.focus_at_mm);
-    ui.label(format!(
-        "Over {}–{} nm, where every material of the bench is valid. Left: paraxial focus less that at {} nm, mm. \
-         Right: lateral colour of the off-axis point (real chief ray), µm.",
-        fixed(v.range_nm.0, 0),
-        fixed(v.range_nm.1, 0),
-        fixed(v.primary_nm, 1)
-    ));
-    if v.samples.iter().all(|s| s.focus_at_mm.is_none()) {
-        ui.label("The final image is at infinity at every wavelength, so there is no focus to plot.");
-    }
-    let marks: Vec<(f64, Color32)> = v.bench_nm.iter().map(|&w| (w, series_colour(ui, w))).collect();
-    ui.columns(2, |cols| {
-        for (k, col) in cols.iter_mut().enumerate() {
-            let (id, y_label) =
-                if k == 0 { ("colour focus", "focus shift, mm") } else { ("colour lateral", "lateral colour, µm") };
-            let pts: Vec<[f64; 2]> = v
-                .samples
-                .iter()
-                .filter_map(|s| {
-                    let y = if k == 0 {
-                        s.focus_at_mm.zip(primary_focus).map(|(f, p)| f - p)
-                    } else {
-                        s.lateral_colour_mm.map(|l| l * 1e3)
-                    };
-                    y.map(|y| [s.wavelength_nm, y])
-                })
-                .collect();
-            let marks = marks.clone();
-            plot(id, "wavelength, nm", y_label, interactive, height).show(col, |p| {
-                for (w, c) in &marks {
-                    p.vline(VLine::new(format!("{} nm", fixed(*w, 1)), *w).color(*c));
-                }
-                p.line(Line::new(y_label, PlotPoints::from(pts)).width(1.5));
-            });
-        }
-    });
-}
-
-fn field_ui(ui: &mut egui::Ui, views: &Views, interactive: bool, height: f32) {
-    let Some(v) = &views.field else { return };
-    ui.label(format!(
-        "Across the field ({}). Left: tangential (solid) and sagittal (dashed) focus less the paraxial image, mm. \
-         Right: distortion, %.",
-        v.field_label
-    ));
-    let (field, label) = (|p: &lumenrail_bench::views::FieldPointFigures| p.field, v.field_label);
-    ui.columns(2, |cols| {
-        let t: Vec<[f64; 2]> = v.points.iter().map(|p| [p.tangential_mm, field(p)]).collect();
-        let s: Vec<[f64; 2]> = v.points.iter().map(|p| [p.sagittal_mm, field(p)]).collect();
-        plot("field curves", "focus shift, mm", label, interactive, height).show(&mut cols[0], |p| {
-            p.line(Line::new("tangential", PlotPoints::from(t)).width(1.5));
-            p.line(Line::new("sagittal", PlotPoints::from(s)).style(LineStyle::dashed_dense()).width(1.5));
-            p.vline(VLine::new("paraxial image", 0.0).color(Color32::GRAY));
-        });
-        let d: Vec<[f64; 2]> = v.points.iter().filter_map(|p| p.distortion_percent.map(|d| [d, field(p)])).collect();
-        plot("field distortion", "distortion, %", label, interactive, height).show(&mut cols[1], |p| {
-            p.line(Line::new("distortion", PlotPoints::from(d)).width(1.5));
-            p.vline(VLine::new("none", 0.0).color(Color32::GRAY));
-        });
-    });
 }
 
 /// The views panel: view tabs, plane and grid choices, exports, then the view.

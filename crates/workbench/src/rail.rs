@@ -1,11 +1,11 @@
 //! The rail view: the bench drawn to scale from the side, with exactly traced rays and the images, where
 //! parts are dragged along the rail.
 
-use crate::scene::wavelength_rgb;
 use crate::{Edit, Workbench};
 use egui::{Color32, Pos2, Rect, Sense, Shape, Stroke, pos2, vec2};
 use lumenrail_bench::compile;
 use lumenrail_bench::model::{ObjectSpec, Part, PartKind, SurfaceSpec};
+use lumenrail_export::colour::wavelength_rgb;
 
 /// Zoom and pan of the rail view; `None` scale means "fit the bench".
 #[derive(Debug, Clone, Default)]

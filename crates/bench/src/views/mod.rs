@@ -1,6 +1,6 @@
 //! The data of the analysis views (spot, fan, sweep, colour and field), projected from a bench's one
-//! [`Evaluation`], and their CSV exports. The workbench plots exactly these numbers and the command line
-//! writes them, so a figure has one source.
+//! [`Evaluation`]. The workbench plots exactly these numbers and `lumenrail-export` writes them (CSV,
+//! PNG), so a figure has one source.
 //!
 //! Every view covers the on-axis and the off-axis object point at every wavelength of the bench. Rays are
 //! aimed through the real stop ([`lumenrail_optics::sampling`]). Positions are rail positions in mm;
@@ -8,7 +8,6 @@
 //! stops and figures; it never compiles the bench or finds a pupil again.
 
 mod colour;
-mod csv;
 mod fan;
 mod field;
 mod spot;

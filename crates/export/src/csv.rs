@@ -1,0 +1,68 @@
+//! The CSV text of each view: a header row with units, then one row per datum, so that a script can
+//! recompute every figure the view shows.
+
+use lumenrail_bench::views::{ViewKind, Views};
+use std::fmt::Write as _;
+
+/// The CSV text of one view (`None` when the view has no data).
+pub fn view_csv(views: &Views, kind: ViewKind) -> Option<String> {
+    let mut t = String::new();
+    match kind {
+        ViewKind::Spot => {
+            let v = views.spot.as_ref()?;
+            t.push_str("point,wavelength_nm,x_mm,y_mm,pupil_x,pupil_y,weight\n");
+            for s in &v.series {
+                for r in &s.rays {
+                    let (px, py) = r.pupil;
+                    let _ = writeln!(
+                        t,
+                        "{},{},{},{},{px},{py},{}",
+                        s.point.word(),
+                        s.wavelength_nm,
+                        r.x_mm,
+                        r.y_mm,
+                        r.weight
+                    );
+                }
+            }
+        }
+        ViewKind::Fan => {
+            let v = views.fan.as_ref()?;
+            t.push_str("point,wavelength_nm,fan,pupil_coordinate,error_mm\n");
+            for s in &v.series {
+                for (name, data) in [("tangential", &s.tangential), ("sagittal", &s.sagittal)] {
+                    for (p, e) in data {
+                        let _ = writeln!(t, "{},{},{name},{p},{e}", s.point.word(), s.wavelength_nm);
+                    }
+                }
+            }
+        }
+        ViewKind::Sweep => {
+            let v = views.sweep.as_ref()?;
+            t.push_str("point,wavelength_nm,plane_at_mm,rms_radius_mm\n");
+            for s in &v.series {
+                for (z, r) in &s.samples {
+                    let _ = writeln!(t, "{},{},{z},{r}", s.point.word(), s.wavelength_nm);
+                }
+            }
+        }
+        ViewKind::Colour => {
+            let v = views.colour.as_ref()?;
+            t.push_str("wavelength_nm,focus_at_mm,lateral_colour_mm\n");
+            let opt = |v: Option<f64>| v.map_or_else(String::new, |v| format!("{v}"));
+            for s in &v.samples {
+                let _ = writeln!(t, "{},{},{}", s.wavelength_nm, opt(s.focus_at_mm), opt(s.lateral_colour_mm));
+            }
+        }
+        ViewKind::Field => {
+            let v = views.field.as_ref()?;
+            let unit = if v.field_label.starts_with("object") { "object_height_mm" } else { "field_angle_deg" };
+            let _ = writeln!(t, "{unit},tangential_focus_mm,sagittal_focus_mm,distortion_percent");
+            for p in &v.points {
+                let d = p.distortion_percent.map_or_else(String::new, |d| format!("{d}"));
+                let _ = writeln!(t, "{},{},{},{d}", p.field, p.tangential_mm, p.sagittal_mm);
+            }
+        }
+    }
+    Some(t)
+}

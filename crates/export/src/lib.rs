@@ -1,0 +1,10 @@
+//! Files for other programs and for print, from a bench's evaluation and views: each view as CSV (a header
+//! row with units, one row per datum) and as a PNG picture that is the workbench's own drawing, made
+//! without a window. egui runs headless here and its triangles are filled in software ([`picture`]), so the
+//! command line exports on a machine with no display and no GPU. Nothing here depends on a windowing
+//! crate, and nothing recomputes a figure: every number comes from [`lumenrail_bench::views::Views`].
+
+pub mod colour;
+pub mod csv;
+pub mod picture;
+pub mod plots;
