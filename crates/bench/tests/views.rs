@@ -6,7 +6,7 @@ use lumenrail_bench::evaluation::Evaluation;
 use lumenrail_bench::file::parse;
 use lumenrail_bench::model::Bench;
 use lumenrail_bench::report::Report;
-use lumenrail_bench::views::{Plane, Point, ViewKind, ViewRequest, Views};
+use lumenrail_bench::views::{Plane, Point, ViewRequest, Views};
 
 fn bench(text: &str) -> Bench {
     parse("test", text).unwrap_or_else(|e| panic!("{e}")).bench
