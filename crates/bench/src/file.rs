@@ -1,7 +1,8 @@
 //! Reading and writing bench files (RON, format 1), with every error placed at a file, line and column.
 //!
-//! Loading reads bytes, checks size and UTF-8, refuses a newer `format` before anything else is read,
-//! parses with unknown fields refused, then validates. Saving writes the parts in rail order to a temporary file beside the target
+//! Loading reads bytes, checks size, skips a UTF-8 byte-order mark (lines and columns count from after
+//! it), checks UTF-8, refuses a newer `format` before anything else is read, parses with unknown fields
+//! refused, then validates. Saving writes the parts in rail order to a temporary file beside the target
 //! (made with the `tempfile` crate), flushes it to disk, gives it the old file's permissions, renames it
 //! over the target and flushes the folder: a failed save leaves the old file intact and no temporary
 //! file behind. A save through a symbolic link writes the file the link points to.
@@ -103,7 +104,12 @@ pub fn load(path: &Path) -> Result<Loaded, LoadError> {
             ),
         ));
     }
-    let bytes = std::fs::read(path).map_err(|e| at_start(&name, format!("cannot read the file: {}", io_words(&e))))?;
+    let mut bytes =
+        std::fs::read(path).map_err(|e| at_start(&name, format!("cannot read the file: {}", io_words(&e))))?;
+    // Skipped before the UTF-8 check, so that a UTF-8 error on line 1 is placed in the visible text too.
+    if bytes.starts_with(BOM.as_bytes()) {
+        bytes.drain(..BOM.len());
+    }
     let text = match String::from_utf8(bytes) {
         Ok(t) => t,
         Err(e) => {
@@ -120,11 +126,20 @@ pub fn load(path: &Path) -> Result<Loaded, LoadError> {
             });
         }
     };
-    parse(&name, &text)
+    parse_text(&name, &text)
 }
 
-/// Parses and validates bench text; `file` names it in messages.
+/// The UTF-8 byte-order mark (EF BB BF) that some editors put at the start of a text file.
+const BOM: &str = "\u{feff}";
+
+/// Parses and validates bench text; `file` names it in messages. A byte-order mark at the start is
+/// skipped, and lines and columns are counted in the text after it.
 pub fn parse(file: &str, text: &str) -> Result<Loaded, LoadError> {
+    parse_text(file, text.strip_prefix(BOM).unwrap_or(text))
+}
+
+/// [`parse`] of text with no byte-order mark.
+fn parse_text(file: &str, text: &str) -> Result<Loaded, LoadError> {
     if text.trim().is_empty() {
         return Err(at_start(file, "the file is empty; a bench file starts with `(` and holds format, title, rail_length_mm, wavelengths_nm, primary_wavelength, object and parts".into()));
     }

@@ -172,6 +172,60 @@ fn saving_through_a_link_to_a_file_not_yet_written_creates_that_file() {
     assert_eq!(names_in(&real_dir), ["new.bench.ron"]);
 }
 
+const BOM: &str = "\u{feff}";
+
+fn one_lens_screen() -> &'static str {
+    lumenrail_bench::demos::find("one-lens-screen").unwrap().text
+}
+
+/// The line and column of the first diagnostic.
+fn place_of(e: &lumenrail_bench::file::LoadError) -> (usize, usize) {
+    (e.diagnostics[0].place.line, e.diagnostics[0].place.col)
+}
+
+#[test]
+fn a_byte_order_mark_at_the_start_is_skipped() {
+    let plain = parse("one-lens-screen", one_lens_screen()).unwrap();
+    let marked = parse("one-lens-screen", &format!("{BOM}{}", one_lens_screen())).unwrap();
+    assert_eq!(marked, plain);
+    let dir = tempfile::tempdir().unwrap();
+    let path = dir.path().join("bom.bench.ron");
+    std::fs::write(&path, [b"\xEF\xBB\xBF".as_slice(), one_lens_screen().as_bytes()].concat()).unwrap();
+    assert_eq!(load(&path).unwrap(), plain);
+}
+
+#[test]
+fn after_a_byte_order_mark_errors_keep_their_line_and_column() {
+    let dir = tempfile::tempdir().unwrap();
+    let cases = [
+        // A syntax error on line 1: the column counts the visible characters.
+        ("(   ]".to_string(), (1, 5)),
+        // Characters, not bytes: `é` is two bytes and one column.
+        ("(é, ]".to_string(), (1, 3)),
+        // A misspelt field further down (placed just after its name).
+        (one_lens_screen().replace("rail_length_mm:", "rail_lenght_mm:"), (5, 19)),
+        // A validation finding, placed by the text's own locator.
+        (one_lens_screen().replace("primary_wavelength: 1", "primary_wavelength: 7"), (7, 5)),
+    ];
+    for (k, (text, place)) in cases.iter().enumerate() {
+        let plain = parse("f", text).unwrap_err();
+        assert_eq!(place_of(&plain), *place, "{plain}");
+        let marked = parse("f", &format!("{BOM}{text}")).unwrap_err();
+        assert_eq!(marked, plain);
+        let path = dir.path().join(format!("case-{k}.bench.ron"));
+        std::fs::write(&path, format!("{BOM}{text}")).unwrap();
+        let loaded = load(&path).unwrap_err();
+        assert_eq!(place_of(&loaded), *place, "{loaded}");
+        assert_eq!(loaded.diagnostics[0].message, plain.diagnostics[0].message);
+    }
+    // Only the first mark is skipped; another one is text, and refused where it stands.
+    assert_eq!(place_of(&parse("f", &format!("{BOM}{BOM}(")).unwrap_err()), (1, 1));
+    // Bytes that are not UTF-8 on line 1 are placed after the mark too.
+    let path = dir.path().join("not-utf8.bench.ron");
+    std::fs::write(&path, b"\xEF\xBB\xBF(x\xFF").unwrap();
+    assert_eq!(place_of(&load(&path).unwrap_err()), (1, 3));
+}
+
 fn surface() -> impl Strategy<Value = SurfaceSpec> {
     prop_oneof![
         Just(SurfaceSpec::Flat),
