@@ -1,9 +1,11 @@
 //! Reading and writing bench files (RON, format 1), with every error placed at a file, line and column.
 //!
-//! Loading reads bytes, checks size and UTF-8, refuses a newer `format` before anything else is read,
-//! parses with unknown fields refused, then validates. Saving writes the parts in rail order to a
-//! temporary file beside the target and renames it over the target, so a failed save leaves the old file
-//! intact.
+//! Loading reads bytes, checks size, skips a UTF-8 byte-order mark (lines and columns count from after
+//! it), checks UTF-8, refuses a newer `format` before anything else is read, parses with unknown fields
+//! refused, then validates. Saving writes the parts in rail order to a temporary file beside the target
+//! (made with the `tempfile` crate), flushes it to disk, gives it the old file's permissions, renames it
+//! over the target and flushes the folder: a failed save leaves the old file intact and no temporary
+//! file behind. A save through a symbolic link writes the file the link points to.
 
 use crate::model::{Bench, FORMAT};
 use crate::validate::{Finding, Severity, validate};
@@ -102,7 +104,12 @@ pub fn load(path: &Path) -> Result<Loaded, LoadError> {
             ),
         ));
     }
-    let bytes = std::fs::read(path).map_err(|e| at_start(&name, format!("cannot read the file: {}", io_words(&e))))?;
+    let mut bytes =
+        std::fs::read(path).map_err(|e| at_start(&name, format!("cannot read the file: {}", io_words(&e))))?;
+    // Skipped before the UTF-8 check, so that a UTF-8 error on line 1 is placed in the visible text too.
+    if bytes.starts_with(BOM.as_bytes()) {
+        bytes.drain(..BOM.len());
+    }
     let text = match String::from_utf8(bytes) {
         Ok(t) => t,
         Err(e) => {
@@ -119,11 +126,20 @@ pub fn load(path: &Path) -> Result<Loaded, LoadError> {
             });
         }
     };
-    parse(&name, &text)
+    parse_text(&name, &text)
 }
 
-/// Parses and validates bench text; `file` names it in messages.
+/// The UTF-8 byte-order mark (EF BB BF) that some editors put at the start of a text file.
+const BOM: &str = "\u{feff}";
+
+/// Parses and validates bench text; `file` names it in messages. A byte-order mark at the start is
+/// skipped, and lines and columns are counted in the text after it.
 pub fn parse(file: &str, text: &str) -> Result<Loaded, LoadError> {
+    parse_text(file, text.strip_prefix(BOM).unwrap_or(text))
+}
+
+/// [`parse`] of text with no byte-order mark.
+fn parse_text(file: &str, text: &str) -> Result<Loaded, LoadError> {
     if text.trim().is_empty() {
         return Err(at_start(file, "the file is empty; a bench file starts with `(` and holds format, title, rail_length_mm, wavelengths_nm, primary_wavelength, object and parts".into()));
     }
@@ -349,22 +365,75 @@ pub fn save(bench: &Bench, path: &Path) -> Result<(), SaveError> {
     write_atomic(path, to_text(bench).as_bytes())
 }
 
-/// Writes `bytes` to `path` atomically: a temporary file beside it, flushed to disk, then renamed over the
-/// target, so that a failed write leaves the old file as it was. Every save and export goes through here.
+/// Writes `bytes` to `path` atomically, so that a failed write leaves the old file as it was and leaves no
+/// temporary file behind. Every save and export goes through here.
+///
+/// The bytes go to a fresh temporary file in the target's folder, which is flushed to disk, given the old
+/// file's permissions (a new file gets the usual ones for a new file), renamed over the target, and then
+/// the folder is flushed so that the rename itself survives a power cut. A `path` that is a symbolic link
+/// writes the file it points to (created if it does not exist yet), and the link stays a link. Should only
+/// the last step, the folder's flush, fail, the new bytes are in place but the error is still returned, as
+/// the save may not survive a power cut.
 pub fn write_atomic(path: &Path, bytes: &[u8]) -> Result<(), SaveError> {
+    use std::io::Write;
     let err = |source| SaveError { path: path.to_path_buf(), source };
-    let dir = path.parent().filter(|p| !p.as_os_str().is_empty()).unwrap_or(Path::new("."));
-    let file_name = path.file_name().ok_or_else(|| err(std::io::Error::other("no file name")))?;
-    let tmp = dir.join(format!(".{}.{}.tmp", file_name.to_string_lossy(), std::process::id()));
-    let result = (|| {
-        use std::io::Write;
-        let mut f = std::fs::File::create(&tmp)?;
-        f.write_all(bytes)?;
-        f.sync_all()?;
-        std::fs::rename(&tmp, path)
-    })();
-    if result.is_err() {
-        let _ = std::fs::remove_file(&tmp);
+    let target = resolve_links(path).map_err(err)?;
+    let dir = target.parent().filter(|p| !p.as_os_str().is_empty()).unwrap_or(Path::new("."));
+    let file_name = target.file_name().ok_or_else(|| err(std::io::Error::other("no file name")))?;
+    let prefix = format!(".{}.", file_name.to_string_lossy());
+    let mut builder = tempfile::Builder::new();
+    builder.prefix(&prefix).suffix(".tmp");
+    // A temporary file is private (0o600) by default; a new bench file should be like any other new file,
+    // so ask for 0o666 and let the umask take its share, as `File::create` does.
+    #[cfg(unix)]
+    builder.permissions(std::os::unix::fs::PermissionsExt::from_mode(0o666));
+    // Dropping `tmp` on any error below deletes the temporary file.
+    let mut tmp = builder.tempfile_in(dir).map_err(err)?;
+    tmp.write_all(bytes).map_err(err)?;
+    if let Ok(old) = std::fs::metadata(&target)
+        && old.is_file()
+    {
+        tmp.as_file().set_permissions(old.permissions()).map_err(err)?;
     }
-    result.map_err(err)
+    tmp.as_file().sync_all().map_err(err)?;
+    tmp.persist(&target).map_err(|e| err(e.error))?;
+    sync_dir(dir).map_err(err)
+}
+
+/// The file that `path` names, following symbolic links: `path` itself unless it is a link. A link whose
+/// target does not exist yet is followed hop by hop, each relative target taken from the link's folder.
+fn resolve_links(path: &Path) -> std::io::Result<PathBuf> {
+    let is_link = |p: &Path| std::fs::symlink_metadata(p).is_ok_and(|m| m.file_type().is_symlink());
+    if !is_link(path) {
+        return Ok(path.to_path_buf());
+    }
+    match std::fs::canonicalize(path) {
+        Ok(resolved) => return Ok(resolved),
+        Err(e) if e.kind() != std::io::ErrorKind::NotFound => return Err(e),
+        Err(_) => {}
+    }
+    // A dangling link (the file it names is yet to be written). 40 hops, as Linux allows.
+    let mut at = path.to_path_buf();
+    for _ in 0..40 {
+        if !is_link(&at) {
+            return Ok(at);
+        }
+        let next = std::fs::read_link(&at)?;
+        let folder = at.parent().unwrap_or(Path::new(""));
+        at = folder.join(next);
+    }
+    Err(std::io::Error::other("too many levels of symbolic links"))
+}
+
+/// Flushes a folder's entries (here, a rename) to disk.
+#[cfg(unix)]
+fn sync_dir(dir: &Path) -> std::io::Result<()> {
+    std::fs::File::open(dir)?.sync_all()
+}
+
+/// Flushes a folder's entries to disk: not possible here. Outside unix the standard library cannot open a
+/// folder as a file to flush it, so the rename is left to the file system.
+#[cfg(not(unix))]
+fn sync_dir(_dir: &Path) -> std::io::Result<()> {
+    Ok(())
 }

@@ -47,6 +47,185 @@ fn a_failed_save_leaves_the_old_file_intact() {
     assert_eq!(std::fs::read(&path).unwrap(), before);
 }
 
+/// The names in a folder, sorted.
+fn names_in(dir: &std::path::Path) -> Vec<String> {
+    let mut names: Vec<String> =
+        std::fs::read_dir(dir).unwrap().map(|e| e.unwrap().file_name().to_string_lossy().into_owned()).collect();
+    names.sort();
+    names
+}
+
+#[test]
+fn a_failed_save_leaves_the_old_content_and_no_temporary_file() {
+    let bench = parse("demo", DEMOS[0].text).unwrap().bench;
+    let dir = tempfile::tempdir().unwrap();
+    let keep = dir.path().join("keep.bench.ron");
+    std::fs::write(&keep, "old bench").unwrap();
+    // The target's folder does not exist.
+    assert!(save(&bench, &dir.path().join("missing-dir").join("keep.bench.ron")).is_err());
+    // The target is a folder, with a file in it: the rename fails.
+    let over = dir.path().join("a-dir.bench.ron");
+    std::fs::create_dir(&over).unwrap();
+    std::fs::write(over.join("inside"), "untouched").unwrap();
+    let e = save(&bench, &over).unwrap_err();
+    assert_eq!(e.path, over);
+    assert!(e.to_string().starts_with("cannot save "), "{e}");
+    // A link to a file in a folder that does not exist.
+    #[cfg(unix)]
+    std::os::unix::fs::symlink("missing-dir/x.bench.ron", dir.path().join("dangling.bench.ron")).unwrap();
+    #[cfg(unix)]
+    assert!(save(&bench, &dir.path().join("dangling.bench.ron")).is_err());
+
+    assert_eq!(std::fs::read_to_string(&keep).unwrap(), "old bench");
+    assert!(over.is_dir());
+    assert_eq!(names_in(&over), ["inside"]);
+    assert_eq!(std::fs::read_to_string(over.join("inside")).unwrap(), "untouched");
+    let mut expected = vec!["a-dir.bench.ron", "keep.bench.ron"];
+    if cfg!(unix) {
+        expected.insert(1, "dangling.bench.ron");
+    }
+    assert_eq!(names_in(dir.path()), expected, "no temporary file is left behind");
+}
+
+#[cfg(unix)]
+#[test]
+fn a_save_keeps_the_old_files_permissions() {
+    use std::os::unix::fs::PermissionsExt;
+    let bench = parse("demo", DEMOS[0].text).unwrap().bench;
+    let dir = tempfile::tempdir().unwrap();
+    for mode in [0o640, 0o600, 0o604, 0o664] {
+        let path = dir.path().join(format!("mode-{mode:o}.bench.ron"));
+        std::fs::write(&path, "old").unwrap();
+        std::fs::set_permissions(&path, std::fs::Permissions::from_mode(mode)).unwrap();
+        save(&bench, &path).unwrap();
+        let kept = std::fs::metadata(&path).unwrap().permissions().mode() & 0o7777;
+        assert_eq!(kept, mode, "{mode:o} became {kept:o}");
+        assert_eq!(std::fs::read_to_string(&path).unwrap(), to_text(&bench));
+    }
+}
+
+#[cfg(unix)]
+#[test]
+fn a_new_file_gets_the_permissions_of_any_new_file() {
+    use std::os::unix::fs::PermissionsExt;
+    let bench = parse("demo", DEMOS[0].text).unwrap().bench;
+    let dir = tempfile::tempdir().unwrap();
+    let reference = dir.path().join("reference");
+    std::fs::File::create(&reference).unwrap();
+    let path = dir.path().join("new.bench.ron");
+    save(&bench, &path).unwrap();
+    let mode = |p: &std::path::Path| std::fs::metadata(p).unwrap().permissions().mode() & 0o7777;
+    assert_eq!(mode(&path), mode(&reference), "not the private mode of a temporary file");
+}
+
+#[cfg(unix)]
+#[test]
+fn saving_through_a_symlink_updates_the_file_it_points_to() {
+    let bench = parse("demo", DEMOS[0].text).unwrap().bench;
+    let dir = tempfile::tempdir().unwrap();
+    let real_dir = dir.path().join("real");
+    std::fs::create_dir(&real_dir).unwrap();
+    let real = real_dir.join("keep.bench.ron");
+    std::fs::write(&real, "old bench").unwrap();
+    let link = dir.path().join("link.bench.ron");
+    std::os::unix::fs::symlink("real/keep.bench.ron", &link).unwrap();
+    // A link to the link.
+    let link2 = dir.path().join("link2.bench.ron");
+    std::os::unix::fs::symlink("link.bench.ron", &link2).unwrap();
+
+    save(&bench, &link).unwrap();
+    assert_eq!(std::fs::read_to_string(&real).unwrap(), to_text(&bench));
+    assert!(std::fs::symlink_metadata(&link).unwrap().file_type().is_symlink());
+    assert_eq!(std::fs::read_link(&link).unwrap(), std::path::Path::new("real/keep.bench.ron"));
+
+    let mut other = bench.clone();
+    other.title = "through two links".into();
+    save(&other, &link2).unwrap();
+    assert_eq!(std::fs::read_to_string(&real).unwrap(), to_text(&other));
+    assert!(std::fs::symlink_metadata(&link2).unwrap().file_type().is_symlink());
+    assert!(std::fs::symlink_metadata(&link).unwrap().file_type().is_symlink());
+    assert_eq!(names_in(dir.path()), ["link.bench.ron", "link2.bench.ron", "real"]);
+    assert_eq!(names_in(&real_dir), ["keep.bench.ron"]);
+}
+
+#[cfg(unix)]
+#[test]
+fn saving_through_a_link_to_a_file_not_yet_written_creates_that_file() {
+    let bench = parse("demo", DEMOS[0].text).unwrap().bench;
+    let dir = tempfile::tempdir().unwrap();
+    let real_dir = dir.path().join("real");
+    std::fs::create_dir(&real_dir).unwrap();
+    // The link lives in its own folder, so its relative target is taken from there, not from the cwd.
+    let links = dir.path().join("links");
+    std::fs::create_dir(&links).unwrap();
+    let link = links.join("new.bench.ron");
+    std::os::unix::fs::symlink("../real/new.bench.ron", &link).unwrap();
+    let link2 = links.join("via.bench.ron");
+    std::os::unix::fs::symlink("new.bench.ron", &link2).unwrap();
+
+    save(&bench, &link2).unwrap();
+    assert_eq!(std::fs::read_to_string(real_dir.join("new.bench.ron")).unwrap(), to_text(&bench));
+    assert!(std::fs::symlink_metadata(&link).unwrap().file_type().is_symlink());
+    assert!(std::fs::symlink_metadata(&link2).unwrap().file_type().is_symlink());
+    assert_eq!(load(&link2).unwrap().bench, load(&real_dir.join("new.bench.ron")).unwrap().bench);
+    assert_eq!(names_in(&links), ["new.bench.ron", "via.bench.ron"]);
+    assert_eq!(names_in(&real_dir), ["new.bench.ron"]);
+}
+
+const BOM: &str = "\u{feff}";
+
+fn one_lens_screen() -> &'static str {
+    lumenrail_bench::demos::find("one-lens-screen").unwrap().text
+}
+
+/// The line and column of the first diagnostic.
+fn place_of(e: &lumenrail_bench::file::LoadError) -> (usize, usize) {
+    (e.diagnostics[0].place.line, e.diagnostics[0].place.col)
+}
+
+#[test]
+fn a_byte_order_mark_at_the_start_is_skipped() {
+    let plain = parse("one-lens-screen", one_lens_screen()).unwrap();
+    let marked = parse("one-lens-screen", &format!("{BOM}{}", one_lens_screen())).unwrap();
+    assert_eq!(marked, plain);
+    let dir = tempfile::tempdir().unwrap();
+    let path = dir.path().join("bom.bench.ron");
+    std::fs::write(&path, [b"\xEF\xBB\xBF".as_slice(), one_lens_screen().as_bytes()].concat()).unwrap();
+    assert_eq!(load(&path).unwrap(), plain);
+}
+
+#[test]
+fn after_a_byte_order_mark_errors_keep_their_line_and_column() {
+    let dir = tempfile::tempdir().unwrap();
+    let cases = [
+        // A syntax error on line 1: the column counts the visible characters.
+        ("(   ]".to_string(), (1, 5)),
+        // Characters, not bytes: `é` is two bytes and one column.
+        ("(é, ]".to_string(), (1, 3)),
+        // A misspelt field further down (placed just after its name).
+        (one_lens_screen().replace("rail_length_mm:", "rail_lenght_mm:"), (5, 19)),
+        // A validation finding, placed by the text's own locator.
+        (one_lens_screen().replace("primary_wavelength: 1", "primary_wavelength: 7"), (7, 5)),
+    ];
+    for (k, (text, place)) in cases.iter().enumerate() {
+        let plain = parse("f", text).unwrap_err();
+        assert_eq!(place_of(&plain), *place, "{plain}");
+        let marked = parse("f", &format!("{BOM}{text}")).unwrap_err();
+        assert_eq!(marked, plain);
+        let path = dir.path().join(format!("case-{k}.bench.ron"));
+        std::fs::write(&path, format!("{BOM}{text}")).unwrap();
+        let loaded = load(&path).unwrap_err();
+        assert_eq!(place_of(&loaded), *place, "{loaded}");
+        assert_eq!(loaded.diagnostics[0].message, plain.diagnostics[0].message);
+    }
+    // Only the first mark is skipped; another one is text, and refused where it stands.
+    assert_eq!(place_of(&parse("f", &format!("{BOM}{BOM}(")).unwrap_err()), (1, 1));
+    // Bytes that are not UTF-8 on line 1 are placed after the mark too.
+    let path = dir.path().join("not-utf8.bench.ron");
+    std::fs::write(&path, b"\xEF\xBB\xBF(x\xFF").unwrap();
+    assert_eq!(place_of(&load(&path).unwrap_err()), (1, 3));
+}
+
 fn surface() -> impl Strategy<Value = SurfaceSpec> {
     prop_oneof![
         Just(SurfaceSpec::Flat),

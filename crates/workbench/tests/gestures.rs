@@ -169,7 +169,7 @@ fn renaming_a_part_and_refusing_a_duplicate_name() {
 #[test]
 fn a_glass_given_by_nd_and_vd_changes_the_focal_length_by_the_lensmaker() {
     let mut h = harness("plano-convex-curved-first");
-    h.get_by_label("PCX 100").click();
+    h.get_by_label("Plano-convex f100").click();
     h.run();
     h.get_by_label("glass").click();
     h.run();
