@@ -1,0 +1,68 @@
+//! The windows over the workbench: the safety cautions, the shortcuts (from the one list of actions) and
+//! the typed-path prompts.
+
+use crate::actions::{ACTIONS, GESTURES};
+use crate::{PathPrompt, Workbench};
+use std::path::PathBuf;
+
+impl Workbench {
+    pub(crate) fn windows_ui(&mut self, ctx: &egui::Context) {
+        egui::Window::new("Safety").open(&mut self.show_safety).show(ctx, |ui| {
+            ui.label(SAFETY);
+        });
+        egui::Window::new("Keyboard shortcuts").open(&mut self.show_keys).show(ctx, |ui| {
+            egui::Grid::new("shortcuts").striped(true).show(ui, |ui| {
+                for a in ACTIONS.iter().filter(|a| !a.keys.is_empty()) {
+                    ui.strong(a.action.keys_text());
+                    ui.label(a.label);
+                    ui.end_row();
+                }
+                for (gesture, what) in GESTURES {
+                    ui.strong(*gesture);
+                    ui.label(*what);
+                    ui.end_row();
+                }
+            });
+        });
+        let mut close = false;
+        if let Some((kind, text)) = &mut self.path_prompt {
+            let (title, what, verb) = match kind {
+                PathPrompt::Open => ("Open bench file", "Path of the .bench.ron file:", "Open"),
+                PathPrompt::SaveAs => ("Save bench as", "Path of the .bench.ron file:", "Save"),
+                PathPrompt::Export(_, true) => ("Export view", "Path of the PNG picture:", "Export"),
+                PathPrompt::Export(_, false) => ("Export view", "Path of the CSV table:", "Export"),
+            };
+            let mut go = false;
+            egui::Window::new(title).collapsible(false).show(ctx, |ui| {
+                let label = ui.label(what);
+                let r = ui.text_edit_singleline(text).labelled_by(label.id);
+                go = r.lost_focus() && ui.input(|i| i.key_pressed(egui::Key::Enter));
+                ui.horizontal(|ui| {
+                    go |= ui.button(verb).clicked();
+                    close |= ui.button("Cancel").clicked();
+                });
+            });
+            if go {
+                let (kind, path) = (*kind, PathBuf::from(text.trim()));
+                close = match kind {
+                    PathPrompt::Open => self.open(path),
+                    PathPrompt::SaveAs => self.save_to(path),
+                    PathPrompt::Export(view, png) => self.export_view(view, png, &path),
+                };
+            }
+        }
+        if close {
+            self.path_prompt = None;
+        }
+    }
+}
+
+/// The safety cautions shown in the Help menu.
+pub const SAFETY: &str = "Lumenrail plans benches; it does not certify them.\n\n\
+• Lasers: every laser has a hazard class (IEC 60825-1; ANSI Z136). Lenses gather a beam, so a bench can make a \
+low-class beam hazardous. Keep beams below eye level, end them on beam stops, align at low power. Class 3B and 4 \
+work needs a laser safety officer and the eyewear that officer names.\n\
+• Stray reflections: every glass surface reflects some light (about 4% uncoated) and curved ones focus it.\n\
+• The sun: never look at the sun through any optic; a lens in sunlight can start a fire.\n\
+• Lamps get hot, burn skin and char nearby material; some emit UV.\n\
+• Local rules and manufacturers' instructions come first. Eyes and eyewear: an eye-care professional.";

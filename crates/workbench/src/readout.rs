@@ -1,0 +1,139 @@
+//! The readout: every figure of the bench's report for a person, with its warnings (a warning about a
+//! part selects that part when clicked).
+
+use crate::Workbench;
+use lumenrail_bench::model::ObjectSpec;
+use lumenrail_bench::report::fixed;
+
+impl Workbench {
+    pub(crate) fn readout_ui(&mut self, ui: &mut egui::Ui) {
+        let r = &self.evaluation.report;
+        let mut select = None;
+        let mut to_best_focus = None;
+        ui.heading("Readout");
+        ui.label(&r.title);
+        if let Some(why) = &r.trace_failure {
+            ui.colored_label(egui::Color32::from_rgb(200, 60, 40), format!("Cannot trace: {why}"));
+        }
+        let mm = |v: Option<f64>| v.map_or_else(|| "—".to_string(), |v| format!("{} mm", fixed(v, 3)));
+        if let Some(img) = r.images.last() {
+            let at = img.at_mm.map_or_else(|| "at infinity".to_string(), |z| format!("at {z:.3} mm"));
+            let m = img.magnification.map_or_else(String::new, |m| format!(", m = {m:.4}"));
+            ui.strong(format!(
+                "Final image {at}: {}, {}{m}",
+                if img.real { "real" } else { "virtual" },
+                if img.erect { "erect" } else { "inverted" }
+            ));
+            for (k, img) in r.images.iter().enumerate().take(r.images.len() - 1) {
+                let at = img.at_mm.map_or_else(|| "at infinity".to_string(), |z| format!("at {z:.3} mm"));
+                let m = img.magnification.map_or_else(String::new, |m| format!(", m = {m:.4}"));
+                ui.label(format!(
+                    "Intermediate image {} after {}: {at}, {}{m}",
+                    k + 1,
+                    img.after_part,
+                    if img.real { "real" } else { "virtual" }
+                ));
+            }
+        }
+        ui.separator();
+        let f = &r.first_order;
+        ui.label(format!("EFL {}   BFL {}", mm(f.efl_mm), mm(f.bfl_mm)));
+        if let Some(n) = f.f_number {
+            ui.label(format!("f-number {n:.2}"));
+        }
+        if let Some(s) = &r.stop {
+            ui.label(format!("Aperture stop: {} ({:.2} mm)", s.part, s.diameter_mm));
+            ui.label(format!(
+                "Entrance pupil {} ({} across)",
+                s.entrance_pupil_at_mm.map_or_else(|| "at infinity".into(), |z| format!("at {z:.2} mm")),
+                mm(s.entrance_pupil_diameter_mm)
+            ));
+            ui.label(format!(
+                "Exit pupil {} ({} across)",
+                s.exit_pupil_at_mm.map_or_else(|| "at infinity".into(), |z| format!("at {z:.2} mm")),
+                mm(s.exit_pupil_diameter_mm)
+            ));
+        }
+        if let Some(af) = &r.afocal {
+            ui.label(format!(
+                "Afocal: angular magnification {:.3}, exit pupil {}, eye relief {}",
+                af.angular_magnification,
+                mm(af.exit_pupil_diameter_mm),
+                mm(af.eye_relief_mm)
+            ));
+        }
+        let ab = &r.aberrations;
+        if let (Some(nw), Some(airy)) = (ab.working_f_number, ab.airy_radius_um) {
+            ui.label(format!("Working f-number {nw:.2}, Airy radius {airy:.2} µm"));
+        }
+        ui.label(format!(
+            "Marginal LSA {}, colour focal shift {}",
+            mm(ab.marginal_lsa_mm),
+            mm(ab.chromatic_focal_shift_mm)
+        ));
+        if let Some(fd) = &r.field {
+            let point = match self.bench.object {
+                ObjectSpec::Point { height_mm, .. } => format!("{height_mm} mm off axis"),
+                ObjectSpec::Distant { field_deg, .. } => format!("{field_deg} deg off axis"),
+            };
+            ui.label(format!(
+                "Foci of the point {point}, from the paraxial image: tangential {}, sagittal {} (astigmatism {})",
+                mm(Some(fd.tangential_focus_mm)),
+                mm(Some(fd.sagittal_focus_mm)),
+                mm(Some(fd.astigmatism_mm)),
+            ));
+            let pc = fd.distortion_percent.map_or_else(|| "—".to_string(), |d| format!("{}%", fixed(d, 4)));
+            ui.label(format!("Distortion {pc}, lateral colour {}", mm(fd.lateral_colour_mm)));
+        }
+        for s in &r.screens {
+            ui.separator();
+            let um = |v: Option<f64>| v.map_or_else(|| "—".to_string(), |v| format!("{v:.2} µm"));
+            ui.label(format!(
+                "Screen {}: RMS spot {}, geometric {}",
+                s.part,
+                um(s.rms_spot_um),
+                um(s.geometric_spot_um)
+            ));
+            if let Some(best) = s.best_focus_at_mm {
+                ui.label(format!(
+                    "Best focus of {} at {best:.3} mm (RMS {}), {} away",
+                    s.part,
+                    um(s.best_rms_spot_um),
+                    mm(s.move_to_best_focus_mm)
+                ));
+                if let Some(index) = self.bench.parts.iter().position(|p| p.name == s.part)
+                    && ui.button(format!("Move {} to best focus", s.part)).clicked()
+                {
+                    to_best_focus = Some(index);
+                }
+            }
+        }
+        if !r.warnings.is_empty() {
+            ui.separator();
+            ui.strong("Warnings");
+            for w in &r.warnings {
+                let part = w.part.as_ref().and_then(|name| self.bench.parts.iter().position(|p| &p.name == name));
+                ui.horizontal_wrapped(|ui| {
+                    ui.label("•");
+                    match part {
+                        // A warning about a part selects it when clicked, so the rail shows which one.
+                        Some(i) => {
+                            if ui.link(&w.message).on_hover_text("select the part").clicked() {
+                                select = Some(i);
+                            }
+                        }
+                        None => {
+                            ui.label(&w.message);
+                        }
+                    }
+                });
+            }
+        }
+        if let Some(index) = to_best_focus {
+            self.move_screen_to_best_focus(index);
+        }
+        if select.is_some() {
+            self.selected = select;
+        }
+    }
+}
