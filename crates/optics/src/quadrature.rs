@@ -5,6 +5,10 @@
 //! polynomial aberration (even in ρ) of degree up to 2N − 1 in t exactly (G. W. Forbes, "Optical system
 //! assessment for design: numerical ray tracing in the Gaussian pupil", J. Opt. Soc. Am. A 5, 1943 (1988)).
 
+use std::cell::RefCell;
+use std::collections::HashMap;
+use std::rc::Rc;
+
 /// Nodes and weights of the N-point Gauss–Legendre rule on [−1, 1], by Newton's method on the Legendre
 /// polynomial (nodes to within a few ulps).
 pub fn gauss_legendre(n: usize) -> (Vec<f64>, Vec<f64>) {
@@ -51,10 +55,19 @@ fn legendre(n: usize, x: f64) -> (f64, f64) {
 }
 
 /// Radial nodes ρ and area weights (summing to 1) for integrating over the unit disc with weight
-/// 2ρ dρ: Gauss–Legendre in t = ρ² on [0, 1].
-pub fn pupil_rings(n: usize) -> Vec<(f64, f64)> {
-    let (x, w) = gauss_legendre(n);
-    x.iter().zip(&w).map(|(xi, wi)| ((0.5 * (xi + 1.0)).sqrt(), 0.5 * wi)).collect()
+/// 2ρ dρ: Gauss–Legendre in t = ρ² on [0, 1]. Each rule is computed once per thread and then shared
+/// (finding the roots costs about a microsecond for 16 rings, more than tracing them).
+pub fn pupil_rings(n: usize) -> Rc<[(f64, f64)]> {
+    RINGS.with(|cache| {
+        Rc::clone(cache.borrow_mut().entry(n).or_insert_with(|| {
+            let (x, w) = gauss_legendre(n);
+            x.iter().zip(&w).map(|(xi, wi)| ((0.5 * (xi + 1.0)).sqrt(), 0.5 * wi)).collect()
+        }))
+    })
+}
+
+thread_local! {
+    static RINGS: RefCell<HashMap<usize, Rc<[(f64, f64)]>>> = RefCell::new(HashMap::new());
 }
 
 #[cfg(test)]

@@ -93,7 +93,7 @@ impl Grid {
             }
             Grid::GaussRings { rings, arms } => {
                 let arms = arms.max(1);
-                for (rho, w) in pupil_rings(rings.max(1)) {
+                for &(rho, w) in pupil_rings(rings.max(1)).iter() {
                     for k in 0..arms {
                         let phi = std::f64::consts::TAU * (k as f64 + 0.5) / arms as f64;
                         let (s, c) = phi.sin_cos();
@@ -308,10 +308,15 @@ pub fn trace_grid(
     let inside = 1.0 - 1e-12;
     let mut aimed = Vec::with_capacity(grid.len());
     let mut batch = SkewBatch::with_capacity(grid.len());
+    // Each aim starts from the last aimed neighbour (grids run ring by ring, or row by row).
+    let a = aimer.stop_semi_mm;
+    let mut near: Option<([f64; 2], (f64, f64))> = None;
     for s in grid {
-        if let Ok(r) = aimer.ray_for(s.px * inside, s.py * inside) {
+        let (px, py) = (s.px * inside, s.py * inside);
+        if let Ok(uv) = aimer.parameters_near(px, py, near) {
+            near = Some((uv, (px * a, py * a)));
             aimed.push(*s);
-            batch.push(r);
+            batch.push(aimer.launch(uv));
         }
     }
     trace_skew_batch(seq, &mut batch);

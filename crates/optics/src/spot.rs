@@ -74,7 +74,7 @@ impl<'a> AxialSpot<'a> {
         let mut kept = Vec::with_capacity(rings);
         let mut blocked = 0.0;
         let mut last_err = None;
-        for ((rho, weight), outcome) in nodes.into_iter().zip(traced) {
+        for (&(rho, weight), outcome) in nodes.iter().zip(traced) {
             match outcome {
                 Ok((ray, _)) => kept.push(Ring { rho, weight, ray }),
                 Err(e) => {
