@@ -66,8 +66,11 @@ pub fn pupil_rings(n: usize) -> Rc<[(f64, f64)]> {
     })
 }
 
+/// A radial rule: (ρ, area weight) per ring.
+type Rule = Rc<[(f64, f64)]>;
+
 thread_local! {
-    static RINGS: RefCell<HashMap<usize, Rc<[(f64, f64)]>>> = RefCell::new(HashMap::new());
+    static RINGS: RefCell<HashMap<usize, Rule>> = RefCell::new(HashMap::new());
 }
 
 #[cfg(test)]
