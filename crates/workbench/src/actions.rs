@@ -2,9 +2,9 @@
 //! take their labels and shortcut texts from it, the keyboard is dispatched from it and the Help window
 //! lists it, so the three can never disagree.
 
+use crate::guard::Replacement;
 use crate::{PathPrompt, Workbench};
 use egui::{Key, Modifiers};
-use lumenrail_bench::model::{Bench, ObjectSpec};
 
 /// A user action.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
@@ -190,7 +190,6 @@ impl Workbench {
     /// Whether `action` can be taken now.
     pub fn can(&self, action: Action) -> bool {
         match action {
-            Action::Save => self.path.is_some(),
             Action::Undo => !self.history.undo.is_empty(),
             Action::Redo => !self.history.redo.is_empty(),
             Action::DuplicatePart | Action::RemovePart | Action::ClearSelection => self.selected.is_some(),
@@ -207,31 +206,11 @@ impl Workbench {
             return;
         }
         match action {
-            Action::NewBench => {
-                let bench = Bench {
-                    format: 1,
-                    title: "New bench".into(),
-                    rail_length_mm: 1000.0,
-                    wavelengths_nm: vec![486.1327, 587.5618, 656.2725],
-                    primary_wavelength: 1,
-                    object: ObjectSpec::Point { at_mm: 0.0, height_mm: 5.0 },
-                    parts: Vec::new(),
-                };
-                self.replace_document(Workbench::new(bench, None));
-            }
-            Action::Open => {
-                match rfd::FileDialog::new().add_filter("bench", &["ron"]).set_title("Open bench").pick_file() {
-                    Some(p) => {
-                        self.open(p);
-                    }
-                    None => self.status = "no file chosen (if no dialog appeared, use File → Open by path…)".into(),
-                }
-            }
+            Action::NewBench => self.replace(Replacement::New),
+            Action::Open => self.replace(Replacement::OpenDialog),
             Action::OpenByPath => self.path_prompt = Some((PathPrompt::Open, String::new())),
             Action::Save => {
-                if let Some(p) = self.path.clone() {
-                    self.save_to(p);
-                }
+                self.save_then(None);
             }
             Action::SaveAs => {
                 let name = self

@@ -1,7 +1,9 @@
 //! The window around the workbench: title with the unsaved mark, asking before closing with unsaved
-//! changes, opening dropped bench files, persisted settings, and the headless screenshot mode.
+//! changes (Save / Discard / Cancel), opening dropped bench files, persisted settings, and the screenshot
+//! mode, which leaves the stored settings and recent files untouched.
 
 use crate::Workbench;
+use crate::guard::Replacement;
 use serde::{Deserialize, Serialize};
 use std::path::PathBuf;
 use std::sync::{Arc, Mutex};
@@ -31,7 +33,6 @@ pub struct WorkbenchApp {
     /// The workbench.
     pub workbench: Workbench,
     settings: Settings,
-    confirm_close: bool,
     allow_close: bool,
     last_title: String,
     screenshot: Option<Screenshot>,
@@ -62,7 +63,6 @@ impl WorkbenchApp {
         WorkbenchApp {
             workbench,
             settings,
-            confirm_close: false,
             allow_close: false,
             last_title: String::new(),
             screenshot: screenshot.map(|out| Screenshot {
@@ -75,6 +75,9 @@ impl WorkbenchApp {
     }
 
     fn remember(&mut self) {
+        if self.screenshot.is_some() {
+            return;
+        }
         if let Some(p) = &self.workbench.path {
             self.settings.recent.retain(|q| q != p);
             self.settings.recent.insert(0, p.clone());
@@ -91,7 +94,7 @@ impl eframe::App for WorkbenchApp {
             i.raw.dropped_files.iter().map(|f| f.path().to_path_buf()).filter(|p| !p.as_os_str().is_empty()).collect()
         });
         if let Some(p) = dropped.into_iter().next() {
-            self.workbench.open(p);
+            self.workbench.replace(Replacement::Open(p));
         }
         self.workbench.recent.clone_from(&self.settings.recent);
         self.workbench.ui(ui);
@@ -101,28 +104,18 @@ impl eframe::App for WorkbenchApp {
             ctx.send_viewport_cmd(egui::ViewportCommand::Title(title.clone()));
             self.last_title = title;
         }
-        // Ask before closing with unsaved changes.
+        // Ask before closing with unsaved changes (Save / Discard / Cancel, the workbench's own question).
         if ctx.input(|i| i.viewport().close_requested())
             && self.workbench.dirty()
             && !self.allow_close
             && self.screenshot.is_none()
         {
             ctx.send_viewport_cmd(egui::ViewportCommand::CancelClose);
-            self.confirm_close = true;
+            self.workbench.replace(Replacement::Close);
         }
-        if self.confirm_close {
-            egui::Modal::new(egui::Id::unique("confirm-close")).show(&ctx, |ui| {
-                ui.label("The bench has unsaved changes. Close anyway?");
-                ui.horizontal(|ui| {
-                    if ui.button("Close without saving").clicked() {
-                        self.allow_close = true;
-                        ctx.send_viewport_cmd(egui::ViewportCommand::Close);
-                    }
-                    if ui.button("Keep working").clicked() {
-                        self.confirm_close = false;
-                    }
-                });
-            });
+        if self.workbench.take_close() {
+            self.allow_close = true;
+            ctx.send_viewport_cmd(egui::ViewportCommand::Close);
         }
         self.screenshot_step(&ctx);
     }
@@ -133,6 +126,10 @@ impl eframe::App for WorkbenchApp {
     }
 
     fn save(&mut self, storage: &mut dyn eframe::Storage) {
+        // A screenshot run (or any headless run) leaves the stored settings and recent files as they were.
+        if self.screenshot.is_some() {
+            return;
+        }
         self.settings.snap_mm = self.workbench.snap_mm;
         self.settings.exaggeration = self.workbench.exaggeration;
         self.settings.views_shown = self.workbench.views.shown;

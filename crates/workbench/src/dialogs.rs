@@ -45,8 +45,17 @@ impl Workbench {
             if go {
                 let (kind, path) = (*kind, PathBuf::from(text.trim()));
                 close = match kind {
-                    PathPrompt::Open => self.open(path),
-                    PathPrompt::SaveAs => self.save_to(path),
+                    PathPrompt::Open => {
+                        self.replace(crate::guard::Replacement::Open(path));
+                        true
+                    }
+                    PathPrompt::SaveAs => {
+                        let saved = self.save_to(path);
+                        if saved {
+                            self.saved_by_prompt();
+                        }
+                        saved
+                    }
                     PathPrompt::Export(view, png) => self.export_view(view, png, &path),
                 };
             }

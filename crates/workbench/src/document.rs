@@ -65,6 +65,9 @@ impl Workbench {
             revision: 0,
             recent: Vec::new(),
             views: plots::ViewsPanel::default(),
+            unsaved_question: None,
+            after_save: None,
+            close_now: false,
         }
     }
 

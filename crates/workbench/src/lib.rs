@@ -10,6 +10,7 @@ pub mod actions;
 pub mod app;
 mod dialogs;
 mod document;
+pub mod guard;
 mod menus;
 pub mod plots;
 mod rail;
@@ -64,6 +65,12 @@ pub struct Workbench {
     pub recent: Vec<PathBuf>,
     /// The analysis views panel.
     pub views: plots::ViewsPanel,
+    /// What waits for the answer to "save the unsaved changes?".
+    pub(crate) unsaved_question: Option<guard::Replacement>,
+    /// What goes ahead once a typed Save As has saved the bench.
+    pub(crate) after_save: Option<guard::Replacement>,
+    /// Set when the user has agreed to close the window.
+    pub(crate) close_now: bool,
 }
 
 /// What a typed path is for.
@@ -99,6 +106,7 @@ impl Workbench {
         }
         egui::CentralPanel::default().show(ui, |ui| rail::rail_ui(self, ui));
         self.windows_ui(ui.ctx());
+        self.unsaved_ui(ui.ctx());
         if self.revision != revision {
             // A drag or an entry changed the bench after the readout was drawn: draw the frame again, so
             // that rays, images and figures on screen always belong to the same layout.

@@ -1,6 +1,7 @@
 //! The menu bar. Every item that is a user action takes its label and shortcut from [`crate::actions`].
 
 use crate::actions::Action;
+use crate::guard::Replacement;
 use crate::{Edit, SNAP_STEPS_MM, Workbench};
 use lumenrail_bench::demos;
 
@@ -16,7 +17,7 @@ impl Workbench {
                     ui.menu_button("Recent files", |ui| {
                         for p in recent {
                             if ui.button(p.display().to_string()).clicked() {
-                                self.open(p);
+                                self.replace(Replacement::Open(p));
                             }
                         }
                     });
@@ -24,7 +25,7 @@ impl Workbench {
                 ui.menu_button("Demo benches", |ui| {
                     for d in demos::DEMOS {
                         if ui.button(d.name).on_hover_text(d.summary()).clicked() {
-                            self.replace_document(Workbench::demo(d.name));
+                            self.replace(Replacement::Demo(d.name.to_string()));
                         }
                     }
                 });

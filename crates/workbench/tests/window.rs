@@ -50,8 +50,16 @@ fn closing_with_unsaved_changes_asks_first() {
     let id = egui::ViewportId::ROOT;
     h.input_mut().viewports.entry(id).or_default().events.push(egui::ViewportEvent::Close);
     h.run();
-    let _ = h.get_by_label_contains("unsaved changes");
-    h.get_by_label("Keep working").click();
+    let _ = h.get_by_label_contains("has changes that are not saved");
+    let _ = h.get_by_label("Save");
+    h.get_by_label("Cancel").click();
     h.run();
-    assert!(h.query_by_label_contains("unsaved changes").is_none());
+    assert!(h.query_by_label_contains("has changes that are not saved").is_none());
+    assert!(h.state().workbench.dirty());
+    // Asked again, Discard lets the window close.
+    h.input_mut().viewports.entry(id).or_default().events.push(egui::ViewportEvent::Close);
+    h.run();
+    h.get_by_label("Discard changes").click();
+    h.run();
+    assert!(h.query_by_label_contains("has changes that are not saved").is_none());
 }
