@@ -1,5 +1,6 @@
 //! Nothing thrown away without asking: with unsaved changes, New, a demo, Open recent and a typed Open ask
 //! Save / Discard / Cancel (egui_kittest, as a person clicks them).
+#![allow(clippy::float_cmp)] // Positions are copied and saved, never computed: they must come back bit for bit.
 
 use egui_kittest::Harness;
 use egui_kittest::kittest::Queryable as _;
