@@ -265,9 +265,12 @@ impl Workbench {
         }
     }
 
-    /// Takes every action whose shortcut was pressed this frame, unless a text field has the keyboard.
+    /// Takes every action whose shortcut was pressed this frame, unless a text field has (or just had) the
+    /// keyboard.
     pub(crate) fn keys_ui(&mut self, ui: &mut egui::Ui) {
-        if ui.ctx().memory(|m| m.focused().is_some()) {
+        // A key that ends typing (Escape, Enter) belongs to the field that had the keyboard last frame.
+        let typed = std::mem::replace(&mut self.typing, ui.ctx().memory(|m| m.focused().is_some()));
+        if typed || self.typing {
             return;
         }
         let pressed: Vec<Action> =

@@ -68,6 +68,7 @@ impl Workbench {
             unsaved_question: None,
             after_save: None,
             close_now: false,
+            typing: false,
         }
     }
 

@@ -71,6 +71,8 @@ pub struct Workbench {
     pub(crate) after_save: Option<guard::Replacement>,
     /// Set when the user has agreed to close the window.
     pub(crate) close_now: bool,
+    /// Whether a text field had the keyboard when the last frame began.
+    pub(crate) typing: bool,
 }
 
 /// What a typed path is for.
@@ -107,6 +109,7 @@ impl Workbench {
         egui::CentralPanel::default().show(ui, |ui| rail::rail_ui(self, ui));
         self.windows_ui(ui.ctx());
         self.unsaved_ui(ui.ctx());
+        self.typing |= ui.ctx().memory(|m| m.focused().is_some());
         if self.revision != revision {
             // A drag or an entry changed the bench after the readout was drawn: draw the frame again, so
             // that rays, images and figures on screen always belong to the same layout.

@@ -1,5 +1,7 @@
-//! The part sheet: edits the selected part, one field at a time. An entry that does not parse, or that
-//! validation refuses, shows its message beside the field and is not applied.
+//! The part sheet: edits the selected part, one field at a time. A typed value is applied on Enter or when
+//! the field loses focus, as one undo step, and Escape restores the old value. An entry that does not
+//! parse, or that validation refuses, shows its reason beside the field in the warning colour and is not
+//! applied (never clamped).
 
 use crate::{Edit, Workbench};
 use lumenrail_bench::model::{MaterialSpec, Part, PartKind, SurfaceSpec};
@@ -258,30 +260,49 @@ pub(crate) fn sheet_ui(wb: &mut Workbench, ui: &mut egui::Ui) {
         wb.sheet.for_part = Some((index, part.clone()));
     }
     ui.label(format!("{} \"{}\"", part.kind.word(), part.name));
-    let mut changed: Option<&'static str> = None;
+    // A typed value is checked as it is typed, but applied only on Enter or when the field loses focus,
+    // as one undo step; Escape puts the old value back.
+    let mut commit: Option<&'static str> = None;
     egui::Grid::new("sheet-grid").num_columns(2).show(ui, |ui| {
         for (key, label) in fields(&part.kind) {
             let name = ui.label(label);
             let text = wb.sheet.texts.entry(key).or_default();
             let r = ui
-                .add(egui::TextEdit::singleline(text).desired_width(110.0).id_salt(("sheet", key)))
+                .add(egui::TextEdit::singleline(text).desired_width(130.0).id_salt(("sheet", key)))
                 .labelled_by(name.id);
             if r.changed() {
-                changed = Some(key);
+                wb.sheet.error = match part_from(&part, &wb.sheet.texts) {
+                    Err(e) => Some(e),
+                    Ok(candidate) => refusal(wb, index, &candidate),
+                };
+            }
+            if r.lost_focus() {
+                if ui.input(|i| i.key_pressed(egui::Key::Escape)) {
+                    wb.sheet.texts.insert(key, field_text(&part, key));
+                    wb.sheet.error = None;
+                } else {
+                    commit = Some(key);
+                }
             }
             ui.end_row();
             if let Some((k, msg)) = &wb.sheet.error
                 && *k == key
             {
                 ui.label("");
-                ui.colored_label(egui::Color32::from_rgb(210, 70, 40), msg);
+                ui.add(
+                    egui::Label::new(
+                        egui::RichText::new(format!("not applied: {msg}")).color(ui.visuals().warn_fg_color),
+                    )
+                    .wrap(),
+                );
                 ui.end_row();
             }
         }
     });
-    if let Some(key) = changed {
+    if commit.is_some() {
         match part_from(&part, &wb.sheet.texts) {
             Err(e) => wb.sheet.error = Some(e),
+            Ok(candidate) if candidate == part => wb.sheet.error = None,
             Ok(candidate) => match refusal(wb, index, &candidate) {
                 Some(e) => wb.sheet.error = Some(e),
                 None => {
@@ -293,7 +314,7 @@ pub(crate) fn sheet_ui(wb: &mut Workbench, ui: &mut egui::Ui) {
                             l.clone_from(&candidate.name);
                         }
                     }
-                    wb.apply(Edit::Replace { index, part: candidate }, Some(&format!("sheet {index} {key}")));
+                    wb.apply(Edit::Replace { index, part: candidate }, None);
                 }
             },
         }
