@@ -35,6 +35,8 @@ pub enum Action {
     RemovePart,
     /// Clear the selection.
     ClearSelection,
+    /// Select the next part along the rail (the first when none is selected).
+    NextPart,
     /// Nudge the selected part one step towards the datum.
     NudgeBack,
     /// Nudge the selected part one step away from the datum.
@@ -133,8 +135,8 @@ const fn entry(action: Action, menu: Menu, label: &'static str, keys: &'static [
 
 /// Every user action, in menu order.
 pub const ACTIONS: &[ActionInfo] = &[
-    entry(Action::NewBench, Menu::File, "New bench", &[]),
-    entry(Action::Open, Menu::File, "Open…", &[]),
+    entry(Action::NewBench, Menu::File, "New bench", &[Shortcut::ctrl(Key::N)]),
+    entry(Action::Open, Menu::File, "Open…", &[Shortcut::ctrl(Key::O)]),
     entry(Action::OpenByPath, Menu::File, "Open by path…", &[]),
     entry(Action::Save, Menu::File, "Save", &[Shortcut::ctrl(Key::S)]),
     entry(Action::SaveAs, Menu::File, "Save as…", &[Shortcut::ctrl_shift(Key::S)]),
@@ -146,6 +148,7 @@ pub const ACTIONS: &[ActionInfo] = &[
     entry(Action::DuplicatePart, Menu::Edit, "Duplicate part", &[]),
     entry(Action::RemovePart, Menu::Edit, "Remove part", &[Shortcut::plain(Key::Delete)]),
     entry(Action::ClearSelection, Menu::Edit, "Clear selection", &[Shortcut::plain(Key::Escape)]),
+    entry(Action::NextPart, Menu::Edit, "Select the next part along the rail", &[Shortcut::plain(Key::Tab)]),
     entry(
         Action::NudgeBack,
         Menu::None,
@@ -165,6 +168,12 @@ pub const ACTIONS: &[ActionInfo] = &[
     entry(Action::Safety, Menu::Help, "Safety", &[]),
     entry(Action::Shortcuts, Menu::Help, "Keyboard shortcuts", &[]),
 ];
+
+/// The status line when no Save As dialog appeared (or it was cancelled).
+pub const NO_SAVE_DIALOG: &str = "not saved (if no dialog appeared, use File, Save as by path…)";
+
+/// The status line when no Open dialog appeared (or it was cancelled).
+pub const NO_OPEN_DIALOG: &str = "no file chosen (if no dialog appeared, use File, Open by path…)";
 
 /// Gestures of the pointer, listed in Help beside the actions.
 pub const GESTURES: &[(&str, &str)] = &[
@@ -196,6 +205,7 @@ impl Workbench {
             Action::NudgeBack | Action::NudgeForward | Action::NudgeBackTen | Action::NudgeForwardTen => {
                 self.selected.is_some()
             }
+            Action::NextPart => !self.bench.parts.is_empty(),
             _ => true,
         }
     }
@@ -224,7 +234,7 @@ impl Workbench {
                     Some(p) => {
                         self.save_to(p);
                     }
-                    None => self.status = "not saved (if no dialog appeared, use File → Save as by path…)".into(),
+                    None => self.status = NO_SAVE_DIALOG.into(),
                 }
             }
             Action::SaveAsByPath => {
@@ -254,6 +264,14 @@ impl Workbench {
                 }
             }
             Action::ClearSelection => self.selected = None,
+            Action::NextPart => {
+                let order = self.bench.rail_order();
+                let at = self.selected.and_then(|i| order.iter().position(|&j| j == i));
+                self.selected = match at {
+                    Some(k) => order.get((k + 1) % order.len().max(1)).copied(),
+                    None => order.first().copied(),
+                };
+            }
             Action::NudgeBack => self.nudge(-1.0),
             Action::NudgeForward => self.nudge(1.0),
             Action::NudgeBackTen => self.nudge(-10.0),
@@ -276,6 +294,10 @@ impl Workbench {
         let pressed: Vec<Action> =
             ui.input(|i| ACTIONS.iter().filter(|a| a.keys.iter().any(|k| k.pressed(i))).map(|a| a.action).collect());
         for action in pressed {
+            if action == Action::NextPart {
+                // Tab walks the parts here, not the widgets' keyboard focus.
+                ui.memory_mut(|m| m.move_focus(egui::FocusDirection::None));
+            }
             self.run(action);
         }
     }

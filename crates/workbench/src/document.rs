@@ -259,5 +259,12 @@ impl Workbench {
         let step = if self.snap_mm > 0.0 { self.snap_mm } else { 1.0 };
         let at = self.bench.parts[i].at_mm + steps * step;
         self.apply(Edit::Move { index: i, at_mm: at }, Some("nudge"));
+        self.status = format!(
+            "nudged \"{}\" {} mm to {} mm (step {} mm: the snap step, or 1 mm with snap off)",
+            self.bench.parts[i].name,
+            lumenrail_bench::report::fixed(steps * step, 3),
+            lumenrail_bench::report::fixed(at, 3),
+            lumenrail_bench::report::fixed(step, 3)
+        );
     }
 }

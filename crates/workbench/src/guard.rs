@@ -73,7 +73,7 @@ impl Workbench {
                     Some(p) => {
                         self.open(p);
                     }
-                    None => self.status = "no file chosen (if no dialog appeared, use File → Open by path…)".into(),
+                    None => self.status = crate::actions::NO_OPEN_DIALOG.into(),
                 }
             }
             Replacement::Open(p) => {

@@ -58,8 +58,12 @@ impl Workbench {
                 if ui.checkbox(&mut shown, Action::ToggleViews.info().label).changed() {
                     self.run(Action::ToggleViews);
                 }
-                ui.add(egui::Slider::new(&mut self.exaggeration, 0.0..=200.0).text("height ×").logarithmic(true));
-                ui.label("0 = automatic");
+                ui.add(
+                    egui::Slider::new(&mut self.exaggeration, 0.0..=200.0)
+                        .text("heights drawn × taller than lengths")
+                        .logarithmic(true),
+                );
+                ui.label("0 = automatic: the tallest part fills the view");
                 ui.horizontal(|ui| {
                     ui.label("snap");
                     for s in SNAP_STEPS_MM {

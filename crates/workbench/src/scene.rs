@@ -42,9 +42,9 @@ pub struct Scene {
 }
 
 impl Scene {
-    /// What the rail draws of `evaluation`: its rail fans as polylines (ending a little past a real final
-    /// image ahead of the light, else 30% of the rail beyond the last surface) and its primary-wavelength
-    /// images. Traces nothing. A bench that cannot be traced gives an empty scene (the readout says why).
+    /// What the rail draws of `evaluation`: its rail fans as polylines (ending at the last screen the light
+    /// meets; without one, a little past a real final image ahead of the light, else 30% of the rail beyond
+    /// the last surface) and its primary-wavelength images. Traces nothing. A bench that cannot be traced gives an empty scene (the readout says why).
     pub fn of(evaluation: &Evaluation) -> Scene {
         let mut scene = Scene::default();
         let (Some(compiled), Some(analysis)) = (evaluation.compiled(), evaluation.analysis()) else { return scene };
@@ -56,6 +56,12 @@ impl Scene {
             .iter()
             .filter_map(|i| Some(DrawnImage { at_mm: i.at_mm?, height_mm: i.height_mm?, real: i.real }))
             .collect();
+        let last_screen = evaluation
+            .screens
+            .iter()
+            .map(|&i| bench.parts[i].at_mm)
+            .filter(|&z| (z - last_z) * dir >= 0.0)
+            .max_by(|a, b| (a * dir).total_cmp(&(b * dir)));
         for fan in &evaluation.rail_fans {
             let Some(w) =
                 analysis.wavelengths.iter().find(|w| w.seq.wavelength_nm.total_cmp(&fan.wavelength_nm).is_eq())
@@ -63,8 +69,12 @@ impl Scene {
                 continue;
             };
             let final_image = w.images.last().and_then(|i| i.at_mm.map(|z| (z, i.real)));
-            let end_z = match final_image {
-                Some((z, true)) if (z - last_z) * dir > 0.0 => z + dir * 0.05 * bench.rail_length_mm,
+            // The last screen the light meets (a film or camera plane) stops it; screens before it are
+            // see-through. Without one, the rays run a little past a real final image ahead, else 30% of
+            // the rail beyond the last surface.
+            let end_z = match (last_screen, final_image) {
+                (Some(z), _) => z,
+                (None, Some((z, true))) if (z - last_z) * dir > 0.0 => z + dir * 0.05 * bench.rail_length_mm,
                 _ => last_z + dir * 0.3 * bench.rail_length_mm,
             };
             for path in &fan.paths {
@@ -112,6 +122,12 @@ mod tests {
         let bench = lumenrail_bench::file::parse("demo", text).unwrap().bench;
         let scene = Scene::of(&Evaluation::of(&bench));
         assert_eq!(scene.rays.len(), 3 * 2 * lumenrail_bench::evaluation::RAIL_FAN_RAYS);
+        // The screen at 450 mm stops the light: no drawn ray runs past it.
+        for r in &scene.rays {
+            let end = r.points.last().unwrap().0;
+            assert!(end <= 450.0 + 1e-9, "{end}");
+        }
+        assert!(scene.rays.iter().any(|r| (r.points.last().unwrap().0 - 450.0).abs() < 1e-9));
         assert_eq!(scene.images.len(), 1);
         assert!((scene.images[0].at_mm - 450.0).abs() < 1e-9);
     }

@@ -5,6 +5,7 @@
 
 use crate::{Edit, Workbench};
 use lumenrail_bench::model::{MaterialSpec, Part, PartKind, SurfaceSpec};
+use lumenrail_bench::report::fixed;
 use lumenrail_bench::validate::{Severity, validate};
 use lumenrail_optics::library;
 use std::collections::BTreeMap;
@@ -320,6 +321,7 @@ pub(crate) fn sheet_ui(wb: &mut Workbench, ui: &mut egui::Ui) {
         }
     }
     material_ui(wb, ui, index);
+    own_figures_ui(wb, ui, index);
     ui.horizontal(|ui| {
         if matches!(part.kind, PartKind::Singlet { .. } | PartKind::Doublet { .. }) && ui.button("Flip lens").clicked()
         {
@@ -334,6 +336,25 @@ pub(crate) fn sheet_ui(wb: &mut Workbench, ui: &mut egui::Ui) {
             }
         }
     });
+}
+
+/// A lens's or mirror's own first-order figures, alone in air at the bench's primary wavelength (from the
+/// bench's evaluation).
+fn own_figures_ui(wb: &Workbench, ui: &mut egui::Ui, index: usize) {
+    let part = &wb.bench.parts[index];
+    if matches!(part.kind, PartKind::Iris { .. } | PartKind::Screen { .. }) {
+        return;
+    }
+    let primary = wb.bench.primary_wavelength_nm().unwrap_or(0.0);
+    ui.separator();
+    ui.label(format!("On its own, at the bench's primary wavelength ({primary} nm):"));
+    let Some(f) = wb.evaluation.part_first_order.get(index).copied().flatten() else {
+        ui.label("no figures: the light does not reach it, or it has no power");
+        return;
+    };
+    let mm = |v: Option<f64>| v.map_or_else(|| "—".to_string(), |v| format!("{} mm", fixed(v, 3)));
+    ui.label(format!("EFL {}   BFL {}   FFL {}", mm(f.efl_mm), mm(f.bfl_mm), mm(f.ffl_mm)));
+    ui.label(format!("principal planes at {} and {}", mm(f.front_principal_at_mm), mm(f.back_principal_at_mm)));
 }
 
 fn material_ui(wb: &mut Workbench, ui: &mut egui::Ui, index: usize) {

@@ -397,3 +397,59 @@ fn views_are_finite(v: &lumenrail_bench::views::Views) -> bool {
 fn final_image_text_or_empty(h: &Harness<'_, Workbench>) -> String {
     h.query_by_label_contains("Final image").and_then(|n| n.value()).unwrap_or_default()
 }
+
+/// Every fixed text the workbench shows (actions, gestures, safety cautions, status messages) has a glyph
+/// in the bundled fonts for each character: no box for a missing one.
+#[test]
+fn every_fixed_text_has_glyphs_in_the_bundled_fonts() {
+    use lumenrail_workbench::actions::{ACTIONS, GESTURES, NO_OPEN_DIALOG, NO_SAVE_DIALOG};
+    let ctx = egui::Context::default();
+    let mut out = ctx.run_ui(egui::RawInput::default(), |_| {});
+    out.textures_delta.clear();
+    let mut texts: Vec<String> = vec![lumenrail_workbench::SAFETY.into(), NO_OPEN_DIALOG.into(), NO_SAVE_DIALOG.into()];
+    for a in ACTIONS {
+        texts.push(a.label.into());
+        texts.push(a.action.keys_text());
+    }
+    for (g, what) in GESTURES {
+        texts.push((*g).into());
+        texts.push((*what).into());
+    }
+    let font = egui::FontId::proportional(14.0);
+    ctx.fonts_mut(|f| {
+        for t in &texts {
+            for c in t.chars().filter(|c| !c.is_whitespace()) {
+                assert!(f.has_glyph(&font, c), "no glyph for {c:?} in {t:?}");
+            }
+        }
+    });
+}
+
+/// Tab selects the next part along the rail, from the datum outwards, and wraps round.
+#[test]
+fn tab_walks_the_parts_along_the_rail() {
+    let mut h = harness("unit-relay");
+    let order: Vec<String> =
+        h.state().bench.rail_order().into_iter().map(|i| h.state().bench.parts[i].name.clone()).collect();
+    for name in order.iter().chain(order.first()) {
+        h.key_press(Key::Tab);
+        h.run();
+        let selected = h.state().selected.map(|i| h.state().bench.parts[i].name.clone());
+        assert_eq!(selected.as_deref(), Some(name.as_str()));
+    }
+}
+
+/// The part sheet gives a lens's own EFL, BFL and FFL at the primary wavelength: for the only lens of a
+/// bench, the bench's own figures (the thick-lens lensmaker's equation, Hecht sec. 6.1, checked in the
+/// bench crate's demo tests).
+#[test]
+fn the_part_sheet_gives_a_lens_its_own_focal_lengths() {
+    let mut h = harness("plano-convex-curved-first");
+    h.get_by_label("Plano-convex f100").click();
+    h.run();
+    let f = h.state().evaluation.report.first_order.clone();
+    let _ = h.get_by_label_contains("primary wavelength (587.5618 nm)");
+    let shown = format!("EFL {:.3} mm   BFL {:.3} mm", f.efl_mm.unwrap(), f.bfl_mm.unwrap());
+    let all: Vec<String> = h.query_all_by_label_contains("EFL").filter_map(|n| n.value()).collect();
+    assert!(all.iter().any(|t| t.starts_with(&shown)), "{all:?} / {shown}");
+}
