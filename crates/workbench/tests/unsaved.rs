@@ -83,7 +83,7 @@ fn new_with_nothing_to_save_asks_nothing() {
     h.run();
     h.get_by_label("File").click();
     h.run();
-    h.get_by_label("New bench").click();
+    h.get_by_label_contains("New bench").click();
     h.run();
     assert!(h.query_by_label_contains("has changes that are not saved").is_none());
     assert_eq!(h.state().bench.title, "New bench");
