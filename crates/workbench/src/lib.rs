@@ -95,11 +95,16 @@ impl Workbench {
                 ui.label(&self.status);
             });
         });
-        egui::Panel::right("readout").default_size(340.0).show(ui, |ui| {
-            egui::ScrollArea::vertical().show(ui, |ui| self.readout_ui(ui));
-        });
-        egui::Panel::left("sheet").default_size(280.0).show(ui, |ui| {
-            egui::ScrollArea::vertical().show(ui, |ui| sheet::sheet_ui(self, ui));
+        // Side panels keep a width of their own (the user may drag it) and scroll inside: long messages wrap
+        // instead of widening them.
+        egui::Panel::right("readout").resizable(true).default_size(340.0).min_size(240.0).max_size(560.0).show(
+            ui,
+            |ui| {
+                egui::ScrollArea::vertical().auto_shrink([false, false]).show(ui, |ui| self.readout_ui(ui));
+            },
+        );
+        egui::Panel::left("sheet").resizable(true).default_size(290.0).min_size(220.0).max_size(480.0).show(ui, |ui| {
+            egui::ScrollArea::vertical().auto_shrink([false, false]).show(ui, |ui| sheet::sheet_ui(self, ui));
         });
         if self.views.shown {
             egui::Panel::bottom("views").resizable(true).default_size(330.0).min_size(200.0).show(ui, |ui| {

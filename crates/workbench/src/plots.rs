@@ -115,7 +115,7 @@ impl Workbench {
 /// The views panel: view tabs, plane and grid choices, exports, then the view.
 pub(crate) fn panel_ui(wb: &mut Workbench, ui: &mut egui::Ui) {
     let mut export: Option<bool> = None;
-    ui.horizontal(|ui| {
+    ui.horizontal_wrapped(|ui| {
         for kind in ViewKind::ALL {
             ui.selectable_value(&mut wb.views.tab, kind, kind.word());
         }

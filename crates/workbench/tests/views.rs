@@ -163,3 +163,25 @@ fn a_moved_part_is_evaluated_once_and_every_panel_projects_it() {
         assert_eq!(after.analyses - before.analyses, 1, "{tab:?}");
     }
 }
+
+/// At 1280 × 800 with a part selected, the views panel's controls stay between the part sheet and the
+/// readout (they wrap instead of running under the readout), and the side panels keep their widths.
+#[test]
+fn at_1280_by_800_every_panel_stays_in_its_area() {
+    for demo in ["camera-meniscus", "unit-relay", "colour-achromat"] {
+        let mut wb = Workbench::demo(demo);
+        wb.selected = Some(0);
+        let mut h = Harness::builder()
+            .with_size(egui::vec2(1280.0, 800.0))
+            .build_ui_state(|ui, wb: &mut Workbench| wb.ui(ui), wb);
+        h.run();
+        let readout = h.get_by_label("Readout").rect();
+        let sheet = h.get_by_label("Part sheet").rect();
+        for control in ["Export PNG…", "Export CSV…", "pupil pattern", "spot", "field"] {
+            let r = h.get_by_label(control).rect();
+            assert!(r.max.x <= readout.min.x && r.min.x >= sheet.max.x, "{demo}: {control} at {r:?}");
+            assert!(r.max.y <= 800.0, "{demo}: {control} below the window: {r:?}");
+        }
+        assert!(readout.min.x >= 1280.0 - 560.0 - 1.0, "{demo}: the readout widened to {readout:?}");
+    }
+}
