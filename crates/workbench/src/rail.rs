@@ -7,13 +7,15 @@ use lumenrail_bench::compile;
 use lumenrail_bench::model::{ObjectSpec, Part, PartKind, SurfaceSpec};
 use lumenrail_export::colour::wavelength_rgb;
 
-/// Zoom and pan of the rail view; `None` scale means "fit the bench".
+/// Zoom and pan of the rail view; `None` scale means "fit the bench" (both ways).
 #[derive(Debug, Clone, Default)]
 pub(crate) struct RailView {
     /// Pixels per mm along the rail, when zoomed.
     px_per_mm: Option<f32>,
     /// Rail position at the view's left edge, when zoomed or panned.
     left_mm: f32,
+    /// The height at the middle of the drawing, mm (0 when fitted).
+    centre_y_mm: f32,
     drag: Option<PartDrag>,
 }
 
@@ -28,6 +30,7 @@ impl RailView {
     /// Back to "fit bench".
     pub(crate) fn fit(&mut self) {
         self.px_per_mm = None;
+        self.centre_y_mm = 0.0;
     }
 }
 
@@ -39,16 +42,32 @@ struct Frame {
     px_per_mm: f32,
     /// Vertical pixels per mm of height (the exaggeration times the rail scale).
     py_per_mm: f32,
+    /// The height drawn at the middle of the optical area, mm.
+    centre_y_mm: f32,
 }
 
 impl Frame {
     fn at(&self, z_mm: f64, y_mm: f64) -> Pos2 {
         pos2(
             self.rect.left() + (z_mm as f32 - self.left_mm) * self.px_per_mm,
-            self.rect.center().y - 12.0 - y_mm as f32 * self.py_per_mm,
+            self.middle_y() - (y_mm as f32 - self.centre_y_mm) * self.py_per_mm,
         )
     }
+
+    /// The screen height of the optical area's middle (above the scale band).
+    fn middle_y(&self) -> f32 {
+        0.5 * (self.rect.top() + self.rect.bottom() - SCALE_BAND_PX)
+    }
+
+    /// The height (mm) drawn at screen height `y`.
+    fn y_mm_at(&self, y: f32) -> f32 {
+        self.centre_y_mm + (self.middle_y() - y) / self.py_per_mm
+    }
 }
+
+/// The band at the bottom of the rail view that holds the scale and the carriers; the optics is drawn above
+/// it, never over it.
+const SCALE_BAND_PX: f32 = 46.0;
 
 const MARGIN_PX: f32 = 30.0;
 
@@ -69,37 +88,61 @@ pub(crate) fn rail_ui(wb: &mut Workbench, ui: &mut egui::Ui) {
     let fit_scale = (rect.width() - 2.0 * MARGIN_PX).max(50.0) / rail.max(1.0);
     let px_per_mm = wb.view.px_per_mm.unwrap_or(fit_scale);
     let left_mm = if wb.view.px_per_mm.is_some() { wb.view.left_mm } else { -MARGIN_PX / fit_scale };
+    // Fit both ways: the tallest part, the object and the drawn ray bundle fill the height above the scale.
     let max_semi = wb.bench.parts.iter().map(|p| 0.5 * p.kind.diameter_mm()).fold(1.0, f64::max) as f32;
     let object_h = match wb.bench.object {
         ObjectSpec::Point { height_mm, .. } => height_mm.abs() as f32,
         ObjectSpec::Distant { beam_diameter_mm, .. } => 0.5 * beam_diameter_mm as f32,
     };
-    let auto = (0.32 * rect.height() / (max_semi.max(object_h) * px_per_mm)).max(1.0);
+    let rays_h = wb
+        .scene
+        .rays
+        .iter()
+        .flat_map(|r| r.points.iter())
+        .filter(|(z, _)| (0.0..=wb.bench.rail_length_mm).contains(z))
+        .map(|(_, y)| y.abs() as f32)
+        .fold(0.0, f32::max);
+    let images_h = wb.scene.images.iter().map(|i| i.height_mm.abs() as f32).fold(0.0, f32::max);
+    let tallest = max_semi.max(object_h).max(rays_h.min(4.0 * max_semi)).max(images_h.min(4.0 * max_semi));
+    let optical_h = (rect.height() - SCALE_BAND_PX).max(40.0);
+    // Heights are drawn `exaggeration` times taller than lengths; automatically, so that the fitted view
+    // holds the tallest thing. Zooming scales both directions alike.
+    let auto = (0.42 * optical_h / (tallest * fit_scale)).max(1.0);
     let exaggeration = if wb.exaggeration > 0.0 { wb.exaggeration } else { auto };
-    let f = Frame { rect, left_mm, px_per_mm, py_per_mm: px_per_mm * exaggeration };
-    let painter = ui.painter_at(rect);
-    painter.rect_filled(rect, 0.0, Color32::from_rgb(24, 27, 33));
+    let py_per_mm = px_per_mm * exaggeration;
+    let centre_y_mm = if wb.view.px_per_mm.is_some() { wb.view.centre_y_mm } else { 0.0 };
+    let f = Frame { rect, left_mm, px_per_mm, py_per_mm, centre_y_mm };
+    let scale_painter = ui.painter_at(rect);
+    scale_painter.rect_filled(rect, 0.0, Color32::from_rgb(24, 27, 33));
+    let painter = ui.painter_at(Rect::from_min_max(rect.min, pos2(rect.max.x, rect.max.y - SCALE_BAND_PX)));
 
-    // Zoom around the pointer, pan by dragging empty rail.
+    // Zoom around the pointer in both directions, pan by dragging empty space.
     if let Some(pointer) = background.hover_pos() {
         let scroll = ui.input(|i| i.smooth_scroll_delta.y);
         let zoom = ui.input(|i| i.zoom_delta()) * (scroll / 400.0).exp();
         if (zoom - 1.0).abs() > 1e-4 {
             let z_at = left_mm + (pointer.x - rect.left()) / px_per_mm;
+            let y_at = f.y_mm_at(pointer.y);
             let new_scale = (px_per_mm * zoom).clamp(fit_scale * 0.2, fit_scale * 200.0);
+            let applied = new_scale / px_per_mm;
             wb.view.px_per_mm = Some(new_scale);
             wb.view.left_mm = z_at - (pointer.x - rect.left()) / new_scale;
+            // Keep the height under the pointer where it is: the vertical scale grows with the horizontal.
+            let new_py = py_per_mm * applied;
+            wb.view.centre_y_mm = y_at - (f.middle_y() - pointer.y) / new_py;
         }
     }
     if background.dragged() {
+        let d = background.drag_delta();
         wb.view.px_per_mm = Some(px_per_mm);
-        wb.view.left_mm = left_mm - background.drag_delta().x / px_per_mm;
+        wb.view.left_mm = left_mm - d.x / px_per_mm;
+        wb.view.centre_y_mm = centre_y_mm + d.y / py_per_mm;
     }
     if background.clicked() {
         wb.selected = None;
     }
 
-    rail_scale_ui(&painter, &f, wb.bench.rail_length_mm);
+    rail_scale_ui(&scale_painter, &f, wb.bench.rail_length_mm);
     object_ui(&painter, &f, wb);
     rays_ui(&painter, &f, wb);
     for img in &wb.scene.images {
@@ -121,7 +164,7 @@ pub(crate) fn rail_ui(wb: &mut Workbench, ui: &mut egui::Ui) {
         focal_marks_ui(&painter, &f, wb, i);
     }
     for i in 0..wb.bench.parts.len() {
-        part_ui(wb, ui, &painter, &f, i);
+        part_ui(wb, ui, &painter, &scale_painter, &f, i);
     }
 }
 
@@ -247,7 +290,7 @@ fn lens_outline(f: &Frame, surfaces: &[(f64, SurfaceSpec)], semi: f64) -> Vec<Ve
         .collect()
 }
 
-fn part_ui(wb: &mut Workbench, ui: &mut egui::Ui, painter: &egui::Painter, f: &Frame, i: usize) {
+fn part_ui(wb: &mut Workbench, ui: &mut egui::Ui, painter: &egui::Painter, scale: &egui::Painter, f: &Frame, i: usize) {
     let part = wb.bench.parts[i].clone();
     let semi = 0.5 * part.kind.diameter_mm();
     let selected = wb.selected == Some(i);
@@ -311,12 +354,12 @@ fn part_ui(wb: &mut Workbench, ui: &mut egui::Ui, painter: &egui::Painter, f: &F
         .carrier_span_mm()
         .unwrap_or((part.at_mm - 4.0 / f.px_per_mm as f64, part.end_mm() + 4.0 / f.px_per_mm as f64));
     let carrier = Rect::from_min_max(pos2(f.at(c0, 0.0).x, y_rail - 9.0), pos2(f.at(c1, 0.0).x, y_rail - 2.0));
-    painter.rect_filled(
+    scale.rect_filled(
         carrier,
         2.0,
         if wb.is_locked(i) { Color32::from_rgb(160, 90, 90) } else { Color32::from_gray(110) },
     );
-    painter.line_segment(
+    scale.line_segment(
         [pos2(f.at(part.at_mm, 0.0).x, y_rail - 12.0), pos2(f.at(part.at_mm, 0.0).x, y_rail)],
         Stroke::new(1.0, edge),
     );

@@ -453,3 +453,40 @@ fn the_part_sheet_gives_a_lens_its_own_focal_lengths() {
     let all: Vec<String> = h.query_all_by_label_contains("EFL").filter_map(|n| n.value()).collect();
     assert!(all.iter().any(|t| t.starts_with(&shown)), "{all:?} / {shown}");
 }
+
+/// Dragging empty space pans up and down as well as along the rail, and zooming with the wheel scales
+/// heights as well as lengths about the pointer.
+#[test]
+fn zoom_and_pan_work_in_both_directions() {
+    let mut h = harness("camera-meniscus");
+    let lens = "Meniscus";
+    let before = h.get_by_label(lens).rect();
+    // Pan: drag empty space above the lens 40 px down; the lens follows.
+    let empty = egui::pos2(before.center().x, before.top() - 20.0);
+    h.drag_at(empty);
+    h.run();
+    h.hover_at(empty + egui::vec2(0.0, 40.0));
+    h.run();
+    h.drop_at(empty + egui::vec2(0.0, 40.0));
+    h.run();
+    let panned = h.get_by_label(lens).rect();
+    assert!((panned.top() - before.top() - 40.0).abs() < 3.0, "{before:?} -> {panned:?}");
+    // Zoom in beside the lens: it grows in width and in height (its top rises; its area runs down to its
+    // carrier on the scale, which stays put).
+    h.hover_at(egui::pos2(panned.right() + 20.0, panned.top() + 30.0));
+    h.run_steps(4);
+    for _ in 0..2 {
+        h.event(egui::Event::MouseWheel {
+            unit: egui::MouseWheelUnit::Point,
+            delta: egui::vec2(0.0, 120.0),
+            modifiers: egui::Modifiers::NONE,
+            phase: egui::TouchPhase::Move,
+            source: egui::MouseWheelSource::Wheel,
+        });
+        // Smooth scrolling spreads a wheel step over several frames.
+        h.run_steps(12);
+    }
+    let zoomed = h.get_by_label(lens).rect();
+    assert!(zoomed.top() < panned.top() - 15.0, "{panned:?} -> {zoomed:?}");
+    assert!(zoomed.width() > 1.2 * panned.width(), "{panned:?} -> {zoomed:?}");
+}
