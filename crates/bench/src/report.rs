@@ -7,7 +7,7 @@ use crate::evaluation::{Evaluation, Traced};
 use crate::model::{Bench, ObjectSpec};
 use crate::validate::{Finding, Severity};
 use lumenrail_optics::analysis::Analysis;
-pub use lumenrail_optics::analysis::FieldFigures;
+pub use lumenrail_optics::analysis::{FieldFigures, Viewing};
 use lumenrail_optics::pupil::{PupilError, StopAt};
 use lumenrail_optics::seidel::SeidelTerms;
 use lumenrail_optics::spot::SpotError;
@@ -233,10 +233,35 @@ pub struct Report {
     pub field: Option<FieldFigures>,
     /// Final paraxial image position at every wavelength.
     pub colour: Vec<ColourFocus>,
+    /// When the final image is virtual, for viewing: where it is seen from the exit pupil (then the report
+    /// gives no f-number, Airy radius, depth of focus or best focus: no screen can catch that image).
+    pub viewing: Option<Viewing>,
     /// Everything that needs a look.
     pub warnings: Vec<Warning>,
     /// Why the bench cannot be traced as asked (null when it can).
     pub trace_failure: Option<String>,
+}
+
+/// How a person reads a [`Viewing`].
+pub trait ViewingWords {
+    /// "The image is for viewing: virtual, at … mm, … mm behind the exit pupil, … degrees tall seen from
+    /// there."
+    fn words(&self) -> String;
+}
+
+impl ViewingWords for Viewing {
+    fn words(&self) -> String {
+        let mut w =
+            format!("The image is for viewing, not for a screen: virtual, at {} mm", fixed(self.image_at_mm, 3));
+        if let Some(d) = self.from_exit_pupil_mm {
+            let side = if d < 0.0 { "behind" } else { "beyond" };
+            let _ = write!(w, ", {} mm {side} the exit pupil (where the eye goes)", fixed(d.abs(), 3));
+        }
+        if let Some(a) = self.angular_size_deg {
+            let _ = write!(w, "; the off-axis point's image is {}° from the axis seen from there", fixed(a, 3));
+        }
+        w
+    }
 }
 
 /// `v` with `digits` decimals, never "-0.000" for a value that rounds to zero (every view formats figures
@@ -278,6 +303,7 @@ impl Report {
             off_axis_area_transmission: None,
             field: None,
             colour: Vec::new(),
+            viewing: None,
             warnings: Vec::new(),
             trace_failure: failure,
         };
@@ -337,7 +363,8 @@ impl Report {
                 back_principal_at_mm: f.back_principal_at_mm,
                 front_nodal_at_mm: f.front_nodal_at_mm,
                 back_nodal_at_mm: f.back_nodal_at_mm,
-                f_number: a.f_number,
+                // An image for viewing has no f-number that means anything to the viewer.
+                f_number: a.f_number.filter(|_| a.viewing.is_none()),
                 lagrange_invariant_mm: a.lagrange_invariant_mm,
             };
         }
@@ -492,6 +519,18 @@ impl Report {
             self.screens.push(fig);
         }
         self.field = a.field;
+        self.viewing = a.viewing;
+        if self.viewing.is_some() {
+            // The light leaves diverging: a best focus found behind the last surface is not a place to
+            // put a screen.
+            for s in &mut self.screens {
+                if s.best_focus_at_mm.is_some_and(|z| (z - last.vertex_z_mm) * compiled.final_direction < 0.0) {
+                    s.best_focus_at_mm = None;
+                    s.best_rms_spot_um = None;
+                    s.move_to_best_focus_mm = None;
+                }
+            }
+        }
         if matches!(bench.object, ObjectSpec::Distant { .. }) && a.first_order.is_some_and(|f| f.power_per_mm > 0.0) {
             self.warnings.push(Warning::new(WarningKind::Caution, None, "caution: a converging bench aimed at the sun or a strong lamp focuses enough light to burn skin and eyes and to start fires".into()));
         }
@@ -560,6 +599,9 @@ impl Report {
                     m
                 );
             }
+        }
+        if let Some(v) = &self.viewing {
+            let _ = writeln!(t, "\n{}", v.words());
         }
         if let Some(af) = &self.afocal {
             let _ = writeln!(t, "\nAfocal: angular magnification {:.4}", af.angular_magnification);

@@ -59,6 +59,16 @@ fn magnifier_gives_a_virtual_erect_enlarged_image() {
     assert!(close(img.at_mm.unwrap(), 100.0 + s1, 1e-12));
     assert!(close(img.magnification.unwrap(), s1 / -30.0, 1e-12));
     assert!(!img.real && img.erect && img.magnification.unwrap() > 1.0);
+    // The image is for viewing: no f-number, Airy radius or depth of focus. Seen from the exit pupil (the
+    // lens, its own stop) it subtends the object's own angle, tan θ = 4/30: the chief ray through a thin
+    // lens's centre is undeviated (Hecht, sec. 5.2).
+    let v = r.viewing.expect("a virtual final image is for viewing");
+    assert!(close(v.image_at_mm, 100.0 + s1, 1e-12));
+    assert!(close(v.from_exit_pupil_mm.unwrap(), s1, 1e-12));
+    assert!(close(v.angular_size_deg.unwrap(), (4.0f64 / 30.0).atan().to_degrees(), 1e-12));
+    assert!(r.first_order.f_number.is_none() && r.aberrations.airy_radius_um.is_none());
+    assert!(r.aberrations.working_f_number.is_none() && r.aberrations.depth_of_focus_mm.is_none());
+    assert!(r.to_text().contains("for viewing"));
 }
 
 #[test]

@@ -134,6 +134,21 @@ pub struct FieldFigures {
     pub lateral_colour_mm: Option<f64>,
 }
 
+/// A final image that is for viewing, not for a screen: a virtual image (the light leaves diverging, as
+/// from a magnifier or an eyepiece), seen from the exit pupil, where the viewer's eye goes.
+#[derive(Debug, Clone, Copy, PartialEq)]
+#[cfg_attr(feature = "serde", derive(serde::Serialize))]
+pub struct Viewing {
+    /// Rail position of the virtual image.
+    pub image_at_mm: f64,
+    /// Its distance from the exit pupil, mm, along the light (negative: behind the pupil, where a virtual
+    /// image lies; `None` when the exit pupil is at infinity).
+    pub from_exit_pupil_mm: Option<f64>,
+    /// The angle the off-axis point's image subtends at the exit pupil's centre, degrees (`None` without an
+    /// off-axis point or with the exit pupil at infinity).
+    pub angular_size_deg: Option<f64>,
+}
+
 /// Every figure of one evaluation.
 #[derive(Debug, Clone, PartialEq)]
 pub struct Analysis {
@@ -175,6 +190,9 @@ pub struct Analysis {
     /// Field curvature, astigmatism, distortion and lateral colour of the off-axis point (`None` without
     /// a final image or an off-axis point).
     pub field: Option<FieldFigures>,
+    /// When the final image is virtual: where it is seen from the exit pupil (then there is no working
+    /// f-number, Airy radius or depth of focus: no screen can catch the image).
+    pub viewing: Option<Viewing>,
 }
 
 impl Analysis {
@@ -262,6 +280,7 @@ pub fn analyse_wavelengths(wavelengths: Vec<Wavelength>, request: &Request) -> R
         off_axis_transmission: None,
         off_axis_area_transmission: None,
         field: None,
+        viewing: None,
     };
     let (shortest, longest) = analysis.extreme_wavelengths();
     if count > 1 {
@@ -286,7 +305,21 @@ pub fn analyse_wavelengths(wavelengths: Vec<Wavelength>, request: &Request) -> R
         p.chief_start.nu / n0,
     ));
     let last = seq.steps.last().expect("pupils imply surfaces");
+    let final_real = primary.images.last().is_some_and(|i| i.real);
     if final_image.is_some()
+        && !final_real
+        && let Some(image) = primary.images.last()
+    {
+        let z = final_image.expect("checked");
+        let from_exit_pupil_mm = p.exit_pupil_at_mm.map(|e| (z - e) * last.dir_after);
+        let angular_size_deg = from_exit_pupil_mm
+            .filter(|d| *d != 0.0)
+            .zip(image.height_mm)
+            .map(|(d, h)| (h.abs() / d.abs()).atan().to_degrees());
+        analysis.viewing = Some(Viewing { image_at_mm: z, from_exit_pupil_mm, angular_size_deg });
+    }
+    if final_image.is_some()
+        && final_real
         && let Some((nw, airy_um, dof_mm)) = diffraction_figures(seq, p.image_space_marginal_slope(seq))
     {
         analysis.working_f_number = Some(nw);

@@ -35,6 +35,10 @@ impl Workbench {
                 ));
             }
         }
+        if let Some(v) = &r.viewing {
+            use lumenrail_bench::report::ViewingWords as _;
+            ui.label(v.words());
+        }
         ui.separator();
         let f = &r.first_order;
         ui.label(format!("EFL {}   BFL {}", mm(f.efl_mm), mm(f.bfl_mm)));
