@@ -49,6 +49,8 @@ pub enum Action {
     FitBench,
     /// Show or hide the analysis views.
     ToggleViews,
+    /// Show the getting-started page.
+    GettingStarted,
     /// Show the safety cautions.
     Safety,
     /// Show the keyboard shortcuts.
@@ -165,6 +167,7 @@ pub const ACTIONS: &[ActionInfo] = &[
     entry(Action::NudgeForwardTen, Menu::None, "Nudge ten steps right", &[Shortcut::shift(Key::ArrowRight)]),
     entry(Action::FitBench, Menu::View, "Fit bench", &[]),
     entry(Action::ToggleViews, Menu::View, "Analysis views (spot, fan, sweep, colour, field)", &[]),
+    entry(Action::GettingStarted, Menu::Help, "Getting started", &[Shortcut::plain(Key::F1)]),
     entry(Action::Safety, Menu::Help, "Safety", &[]),
     entry(Action::Shortcuts, Menu::Help, "Keyboard shortcuts", &[]),
 ];
@@ -278,6 +281,7 @@ impl Workbench {
             Action::NudgeForwardTen => self.nudge(10.0),
             Action::FitBench => self.view.fit(),
             Action::ToggleViews => self.views.shown = !self.views.shown,
+            Action::GettingStarted => self.show_start = true,
             Action::Safety => self.show_safety = true,
             Action::Shortcuts => self.show_keys = true,
         }

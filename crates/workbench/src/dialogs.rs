@@ -7,6 +7,9 @@ use std::path::PathBuf;
 
 impl Workbench {
     pub(crate) fn windows_ui(&mut self, ctx: &egui::Context) {
+        egui::Window::new("Getting started").open(&mut self.show_start).default_width(460.0).show(ctx, |ui| {
+            ui.label(GETTING_STARTED);
+        });
         egui::Window::new("Safety").open(&mut self.show_safety).show(ctx, |ui| {
             ui.label(SAFETY);
         });
@@ -75,3 +78,22 @@ work needs a laser safety officer and the eyewear that officer names.\n\
 • The sun: never look at the sun through any optic; a lens in sunlight can start a fire.\n\
 • Lamps get hot, burn skin and char nearby material; some emit UV.\n\
 • Local rules and manufacturers' instructions come first. Eyes and eyewear: an eye-care professional.";
+
+/// The getting-started page of the Help menu: a first session, and where each panel is.
+pub const GETTING_STARTED: &str = "A first session\n\n\
+1. Open a demo: File, Demo benches, for example \"one-lens-screen\" (a slide projected onto a screen).\n\
+2. Drag the lens along the rail in the middle. The rays, the image arrow and every figure follow as you drag; \
+the part stops against its neighbour's carrier (hold Alt to pass it). Left and Right arrows nudge it.\n\
+3. Read the image in the readout on the right: where it forms, real or virtual, which way up, its \
+magnification, and the spot size on each screen. \"Move Screen to best focus\" puts the screen where the \
+image is sharpest.\n\
+4. Click a part to edit it in the part sheet on the left; type a value and press Enter (Escape puts the old \
+value back). Ctrl+Z undoes any change.\n\
+5. Save with Ctrl+S (File, Save as, for a new file).\n\n\
+Where things are\n\n\
+- The rail (middle): the bench drawn to scale from the side, the millimetre scale at the bottom. Scroll to \
+zoom about the pointer, drag empty space to pan, View, Fit bench to see it all.\n\
+- The part sheet (left): the selected part's numbers, its own focal lengths, flip and lock.\n\
+- The readout (right): every figure of the bench and its warnings; click a warning about a part to select it.\n\
+- The views (bottom): spot diagram, ray fans, focus sweep, colour and field, with CSV and PNG export.\n\
+- Help, Keyboard shortcuts lists every key.";

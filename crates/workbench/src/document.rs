@@ -69,6 +69,7 @@ impl Workbench {
             after_save: None,
             close_now: false,
             typing: false,
+            show_start: false,
         }
     }
 

@@ -18,7 +18,7 @@ mod readout;
 pub mod scene;
 mod sheet;
 
-pub use dialogs::SAFETY;
+pub use dialogs::{GETTING_STARTED, SAFETY};
 pub use document::Edit;
 use document::History;
 use lumenrail_bench::evaluation::Evaluation;
@@ -73,6 +73,8 @@ pub struct Workbench {
     pub(crate) close_now: bool,
     /// Whether a text field had the keyboard when the last frame began.
     pub(crate) typing: bool,
+    /// Whether the getting-started page is open.
+    pub(crate) show_start: bool,
 }
 
 /// What a typed path is for.

@@ -73,6 +73,7 @@ impl Workbench {
                 });
             });
             ui.menu_button("Help", |ui| {
+                self.action_button(ui, Action::GettingStarted);
                 self.action_button(ui, Action::Safety);
                 self.action_button(ui, Action::Shortcuts);
             });

@@ -249,6 +249,12 @@ fn the_help_menu_shows_the_safety_cautions_and_the_shortcuts() {
     let mut h = harness("one-lens-screen");
     h.get_by_label("Help").click();
     h.run();
+    h.get_by_label_contains("Getting started").click();
+    h.run();
+    let _ = h.get_by_label_contains("A first session");
+    let mut h = harness("one-lens-screen");
+    h.get_by_label("Help").click();
+    h.run();
     h.get_by_label("Keyboard shortcuts").click();
     h.run();
     // Help lists every action that has a shortcut, with the keys from the one list of actions.
@@ -406,7 +412,12 @@ fn every_fixed_text_has_glyphs_in_the_bundled_fonts() {
     let ctx = egui::Context::default();
     let mut out = ctx.run_ui(egui::RawInput::default(), |_| {});
     out.textures_delta.clear();
-    let mut texts: Vec<String> = vec![lumenrail_workbench::SAFETY.into(), NO_OPEN_DIALOG.into(), NO_SAVE_DIALOG.into()];
+    let mut texts: Vec<String> = vec![
+        lumenrail_workbench::SAFETY.into(),
+        lumenrail_workbench::GETTING_STARTED.into(),
+        NO_OPEN_DIALOG.into(),
+        NO_SAVE_DIALOG.into(),
+    ];
     for a in ACTIONS {
         texts.push(a.label.into());
         texts.push(a.action.keys_text());
