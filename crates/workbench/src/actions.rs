@@ -37,6 +37,8 @@ pub enum Action {
     ClearSelection,
     /// Select the next part along the rail (the first when none is selected).
     NextPart,
+    /// Open the bench settings sheet (title, rail, object, wavelengths).
+    BenchSettings,
     /// Nudge the selected part one step towards the datum.
     NudgeBack,
     /// Nudge the selected part one step away from the datum.
@@ -267,6 +269,7 @@ impl Workbench {
                 }
             }
             Action::ClearSelection => self.selected = None,
+            Action::BenchSettings => self.open_settings(),
             Action::NextPart => {
                 let order = self.bench.rail_order();
                 let at = self.selected.and_then(|i| order.iter().position(|&j| j == i));

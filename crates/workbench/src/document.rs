@@ -6,7 +6,7 @@ use crate::{Workbench, plots, rail, sheet};
 use lumenrail_bench::demos;
 use lumenrail_bench::evaluation::Evaluation;
 use lumenrail_bench::file;
-use lumenrail_bench::model::{Bench, Part, PartKind};
+use lumenrail_bench::model::{Bench, ObjectSpec, Part, PartKind};
 use std::path::PathBuf;
 
 /// One change to the bench document.
@@ -30,6 +30,48 @@ pub enum Edit {
     Add(Part),
     /// Remove part `index`.
     Remove(usize),
+    /// Change what is not a part: title, rail length, object and wavelengths (the parts stay).
+    Settings(Box<BenchSettings>),
+}
+
+/// Everything on a bench that is not a part: what the bench settings sheet edits.
+#[derive(Debug, Clone, PartialEq)]
+pub struct BenchSettings {
+    /// The title.
+    pub title: String,
+    /// Usable rail length, mm.
+    pub rail_length_mm: f64,
+    /// The object.
+    pub object: ObjectSpec,
+    /// Wavelengths, nm.
+    pub wavelengths_nm: Vec<f64>,
+    /// Index of the primary wavelength.
+    pub primary_wavelength: usize,
+}
+
+impl BenchSettings {
+    /// The settings of `bench`.
+    pub fn of(bench: &Bench) -> BenchSettings {
+        BenchSettings {
+            title: bench.title.clone(),
+            rail_length_mm: bench.rail_length_mm,
+            object: bench.object,
+            wavelengths_nm: bench.wavelengths_nm.clone(),
+            primary_wavelength: bench.primary_wavelength,
+        }
+    }
+
+    /// `bench` with these settings.
+    pub fn applied_to(&self, bench: &Bench) -> Bench {
+        Bench {
+            title: self.title.clone(),
+            rail_length_mm: self.rail_length_mm,
+            object: self.object,
+            wavelengths_nm: self.wavelengths_nm.clone(),
+            primary_wavelength: self.primary_wavelength,
+            ..bench.clone()
+        }
+    }
 }
 
 /// Undo and redo stacks of whole-bench snapshots (a bench is a few hundred bytes).
@@ -70,6 +112,7 @@ impl Workbench {
             close_now: false,
             typing: false,
             show_start: false,
+            settings: crate::settings::SettingsSheet::default(),
         }
     }
 
@@ -159,6 +202,7 @@ impl Workbench {
                 self.bench.parts.remove(index);
                 self.selected = None;
             }
+            Edit::Settings(settings) => self.bench = settings.applied_to(&self.bench),
         }
         self.refresh();
     }

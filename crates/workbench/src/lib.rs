@@ -16,11 +16,12 @@ pub mod plots;
 mod rail;
 mod readout;
 pub mod scene;
+mod settings;
 mod sheet;
 
 pub use dialogs::{GETTING_STARTED, SAFETY};
-pub use document::Edit;
 use document::History;
+pub use document::{BenchSettings, Edit};
 use lumenrail_bench::evaluation::Evaluation;
 use lumenrail_bench::model::Bench;
 use scene::Scene;
@@ -75,6 +76,8 @@ pub struct Workbench {
     pub(crate) typing: bool,
     /// Whether the getting-started page is open.
     pub(crate) show_start: bool,
+    /// The bench settings sheet.
+    pub(crate) settings: settings::SettingsSheet,
 }
 
 /// What a typed path is for.
@@ -115,6 +118,7 @@ impl Workbench {
         }
         egui::CentralPanel::default().show(ui, |ui| rail::rail_ui(self, ui));
         self.windows_ui(ui.ctx());
+        self.settings_ui(ui.ctx());
         self.unsaved_ui(ui.ctx());
         self.typing |= ui.ctx().memory(|m| m.focused().is_some());
         if self.revision != revision {

@@ -51,6 +51,8 @@ impl Workbench {
                 self.action_button(ui, Action::DuplicatePart);
                 self.action_button(ui, Action::RemovePart);
                 self.action_button(ui, Action::ClearSelection);
+                ui.separator();
+                self.action_button(ui, Action::BenchSettings);
             });
             ui.menu_button("View", |ui| {
                 self.action_button(ui, Action::FitBench);

@@ -144,6 +144,19 @@ pub(crate) fn rail_ui(wb: &mut Workbench, ui: &mut egui::Ui) {
 
     rail_scale_ui(&scale_painter, &f, wb.bench.rail_length_mm);
     object_ui(&painter, &f, wb);
+    // The object is clickable: it opens the bench settings, where it is edited.
+    let object_hit = match wb.bench.object {
+        ObjectSpec::Point { at_mm, height_mm } => {
+            Rect::from_two_pos(f.at(at_mm, 0.0), f.at(at_mm, height_mm)).expand2(vec2(8.0, 4.0))
+        }
+        ObjectSpec::Distant { .. } => Rect::from_min_size(f.at(0.0, 0.0) + vec2(0.0, -32.0), vec2(90.0, 20.0)),
+    }
+    .intersect(rect);
+    let object = ui.interact(object_hit, ui.scope_id().with("object"), Sense::click());
+    object.widget_info(|| egui::WidgetInfo::labeled(egui::Role::Button, true, "object"));
+    if object.on_hover_text("the object: click to edit it in the bench settings").clicked() {
+        wb.open_settings();
+    }
     rays_ui(&painter, &f, wb);
     for img in &wb.scene.images {
         let base = f.at(img.at_mm, 0.0);

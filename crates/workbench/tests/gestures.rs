@@ -501,3 +501,37 @@ fn zoom_and_pan_work_in_both_directions() {
     assert!(zoomed.top() < panned.top() - 15.0, "{panned:?} -> {zoomed:?}");
     assert!(zoomed.width() > 1.2 * panned.width(), "{panned:?} -> {zoomed:?}");
 }
+
+/// The bench settings sheet, opened by clicking the object: the object's height and the wavelengths are
+/// edited there and applied together as one undo step; an impossible value says why and changes nothing.
+#[test]
+fn the_bench_settings_sheet_edits_the_object_and_the_wavelengths() {
+    let mut h = harness("one-lens-screen");
+    h.get_by_label("object").click();
+    h.run();
+    let _ = h.get_by_label("Bench settings");
+    replace_text(&mut h, "object height, off-axis point (mm)", "6");
+    h.get_by_label("single line: d (587.6 nm)").click();
+    h.run();
+    h.get_by_label("Apply").click();
+    h.run();
+    let b = h.state().bench.clone();
+    assert_eq!(b.object, lumenrail_bench::model::ObjectSpec::Point { at_mm: 0.0, height_mm: 6.0 });
+    assert_eq!(b.wavelengths_nm, vec![587.5618]);
+    assert_eq!(b.primary_wavelength, 0);
+    // m = −0.5, so the final image is 3 mm tall (Gaussian imaging).
+    let img = h.state().evaluation.report.images.last().unwrap().clone();
+    assert!((img.height_mm.unwrap() + 3.0).abs() < 1e-12, "{img:?}");
+    // A rail too short for the parts is refused with the reason.
+    replace_text(&mut h, "rail length (mm)", "100");
+    h.get_by_label("Apply").click();
+    h.run();
+    let _ = h.get_by_label_contains("not applied");
+    assert_eq!(h.state().bench.rail_length_mm, 1000.0);
+    // One undo step takes the applied settings back.
+    h.get_by_label("Close").click();
+    h.run();
+    h.key_press_modifiers(egui::Modifiers::COMMAND, Key::Z);
+    h.run();
+    assert_eq!(h.state().bench.wavelengths_nm.len(), 3);
+}
