@@ -228,6 +228,11 @@ pub struct Report {
     pub off_axis_transmission: Option<f64>,
     /// Share of the off-axis point's pupil area that passes every aperture (1: no vignetting).
     pub off_axis_area_transmission: Option<f64>,
+    /// The part whose clear aperture first clips the off-axis point's pupil (null: nothing clips it).
+    pub off_axis_clipped_by: Option<String>,
+    /// The largest off-axis point (object height in mm, or field angle in degrees) whose whole pupil gets
+    /// through (null when not found).
+    pub unclipped_field: Option<f64>,
     /// Field curvature, astigmatism, distortion and lateral colour of the off-axis point (null without a
     /// final image or an off-axis point).
     pub field: Option<FieldFigures>,
@@ -301,6 +306,8 @@ impl Report {
             afocal: None,
             off_axis_transmission: None,
             off_axis_area_transmission: None,
+            off_axis_clipped_by: None,
+            unclipped_field: None,
             field: None,
             colour: Vec::new(),
             viewing: None,
@@ -425,19 +432,34 @@ impl Report {
         self.off_axis_transmission = a.off_axis_transmission;
         self.off_axis_area_transmission = a.off_axis_area_transmission;
         let (line, area) = (a.off_axis_transmission.unwrap_or(1.0), a.off_axis_area_transmission.unwrap_or(1.0));
+        let full_field = match bench.object {
+            ObjectSpec::Point { height_mm, .. } => height_mm,
+            ObjectSpec::Distant { field_deg, .. } => field_deg,
+        };
+        self.off_axis_clipped_by = a.off_axis_clipped_by.map(|k| Self::part_name(bench, compiled, k));
+        self.unclipped_field = a.unclipped_field.map(|f| f * full_field);
         if line < 1.0 - 1e-6 || area < 1.0 - 1e-6 {
-            let off_axis = match bench.object {
-                ObjectSpec::Point { height_mm, .. } => format!("the object point {height_mm} mm off axis"),
-                ObjectSpec::Distant { field_deg, .. } => format!("the field point {field_deg}° off axis"),
+            let (off_axis, unit) = match bench.object {
+                ObjectSpec::Point { height_mm, .. } => (format!("the object point {height_mm} mm off axis"), " mm"),
+                ObjectSpec::Distant { field_deg, .. } => (format!("the field point {field_deg}° off axis"), "°"),
             };
             let area = a
                 .off_axis_area_transmission
                 .map_or_else(String::new, |t| format!("{}% of its pupil's area and ", fixed(100.0 * t, 1)));
-            self.warnings.push(Warning::new(
-                WarningKind::Vignetting,
-                None,
-                format!("vignetting: {off_axis} keeps {area}{}% of its meridional pupil", fixed(100.0 * line, 1)),
-            ));
+            let by =
+                self.off_axis_clipped_by.as_ref().map_or_else(String::new, |n| format!("; \"{n}\" clips it first"));
+            let whole = self
+                .unclipped_field
+                .map_or_else(String::new, |f| format!("; the field passes whole up to {}{unit}", fixed(f, 3)));
+            self.warnings.push(Warning {
+                kind: WarningKind::Vignetting,
+                part: self.off_axis_clipped_by.clone(),
+                field: None,
+                message: format!(
+                    "vignetting: {off_axis} keeps {area}{}% of its meridional pupil{by}{whole}",
+                    fixed(100.0 * line, 1)
+                ),
+            });
         }
         // Screens: figures for the light's last crossing, which the final rays give when the screen lies in
         // the final space (beyond the last surface, along the final direction).

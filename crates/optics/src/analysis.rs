@@ -7,7 +7,7 @@
 use crate::field::{chief_height_at, field_sample};
 use crate::paraxial::{self, FirstOrder, Object, ParaxialImage};
 use crate::pupil::{FieldPoint, PupilError, Pupils, meridional_transmission};
-use crate::sampling::{SkewAimer, pupil_transmission_integrated, rim_clears_with};
+use crate::sampling::{SkewAimer, pupil_transmission_integrated, rim_clears_with, rim_clipper, unclipped_field};
 use crate::seidel::{Seidel, seidel};
 use crate::spot::{SpotError, SpotFigures, spot_figures};
 use crate::system::{Sequence, System, SystemError};
@@ -190,6 +190,12 @@ pub struct Analysis {
     /// Field curvature, astigmatism, distortion and lateral colour of the off-axis point (`None` without
     /// a final image or an off-axis point).
     pub field: Option<FieldFigures>,
+    /// The first clear aperture (surface index) that clips the off-axis point's pupil (`None`: nothing
+    /// does, or not asked).
+    pub off_axis_clipped_by: Option<usize>,
+    /// The largest share of the field whose pupil passes whole, 0 to 1 (`None` when not asked, or when even
+    /// the axis is clipped; 1 when nothing clips the field).
+    pub unclipped_field: Option<f64>,
     /// When the final image is virtual: where it is seen from the exit pupil (then there is no working
     /// f-number, Airy radius or depth of focus: no screen can catch the image).
     pub viewing: Option<Viewing>,
@@ -280,6 +286,8 @@ pub fn analyse_wavelengths(wavelengths: Vec<Wavelength>, request: &Request) -> R
         off_axis_transmission: None,
         off_axis_area_transmission: None,
         field: None,
+        off_axis_clipped_by: None,
+        unclipped_field: None,
         viewing: None,
     };
     let (shortest, longest) = analysis.extreme_wavelengths();
@@ -358,7 +366,10 @@ pub fn analyse_wavelengths(wavelengths: Vec<Wavelength>, request: &Request) -> R
         if aimer.as_ref().is_ok_and(|a| rim_clears_with(seq, a, p)) {
             analysis.off_axis_transmission = Some(1.0);
             analysis.off_axis_area_transmission = Some(1.0);
+            analysis.unclipped_field = Some(1.0);
         } else {
+            analysis.off_axis_clipped_by = rim_clipper(seq, object, p, 1.0);
+            analysis.unclipped_field = unclipped_field(seq, object, p);
             analysis.off_axis_transmission = Some(meridional_transmission(seq, object, p, FieldPoint::OffAxis));
             analysis.off_axis_area_transmission =
                 aimer.ok().and_then(|a| pupil_transmission_integrated(seq, &a, 1.0).ok());

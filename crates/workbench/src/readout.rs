@@ -133,6 +133,28 @@ impl Workbench {
                 });
             }
         }
+        // A clipped field: offer to shrink it to what passes whole.
+        let full = match self.bench.object {
+            ObjectSpec::Point { height_mm, .. } => height_mm,
+            ObjectSpec::Distant { field_deg, .. } => field_deg,
+        };
+        let mut shrink = None;
+        if let Some(f) = r.unclipped_field.filter(|f| f.abs() < full.abs() * (1.0 - 1e-6) && *f != 0.0) {
+            let unit = if matches!(self.bench.object, ObjectSpec::Point { .. }) { "mm" } else { "°" };
+            // Rounded down, so that the shrunk field still passes whole.
+            let shown = (f.abs() * 1e3).floor() / 1e3 * f.signum();
+            if ui.button(format!("Shrink the field to {} {unit}, which passes whole", fixed(shown, 3))).clicked() {
+                shrink = Some(shown);
+            }
+        }
+        if let Some(f) = shrink {
+            let mut s = crate::BenchSettings::of(&self.bench);
+            s.object = match s.object {
+                ObjectSpec::Point { at_mm, .. } => ObjectSpec::Point { at_mm, height_mm: f },
+                ObjectSpec::Distant { beam_diameter_mm, .. } => ObjectSpec::Distant { field_deg: f, beam_diameter_mm },
+            };
+            self.apply(crate::Edit::Settings(Box::new(s)), None);
+        }
         if let Some(index) = to_best_focus {
             self.move_screen_to_best_focus(index);
         }

@@ -535,3 +535,33 @@ fn the_bench_settings_sheet_edits_the_object_and_the_wavelengths() {
     h.run();
     assert_eq!(h.state().bench.wavelengths_nm.len(), 3);
 }
+
+/// A clipped field says which part clips it (clicking the warning selects that part) and offers to shrink
+/// the field to what passes whole; after that nothing is vignetted.
+#[test]
+fn a_clipped_field_names_the_part_and_can_be_shrunk_to_what_passes() {
+    let text = r#"(format: 1, title: "two irises", rail_length_mm: 400.0, wavelengths_nm: [587.5618], primary_wavelength: 0,
+        object: Distant(field_deg: 5.0, beam_diameter_mm: 30.0), parts: [
+        (name: "Front iris", at_mm: 100.0, kind: Iris(diameter_mm: 8.0)),
+        (name: "Back iris", at_mm: 140.0, kind: Iris(diameter_mm: 10.0)),
+        (name: "Lens", at_mm: 150.0, kind: ThinLens(focal_mm: 100.0, diameter_mm: 40.0)),
+        (name: "Screen", at_mm: 250.0, kind: Screen(diameter_mm: 40.0))])"#;
+    let bench = lumenrail_bench::file::parse("t", text).unwrap().bench;
+    let mut h = Harness::builder()
+        .with_size(egui::vec2(1400.0, 900.0))
+        .build_ui_state(|ui, wb: &mut Workbench| wb.ui(ui), Workbench::new(bench, None));
+    h.run();
+    h.get_by_label_contains("\"Back iris\" clips it first").click();
+    h.run();
+    let back = h.state().bench.parts.iter().position(|p| p.name == "Back iris");
+    assert_eq!(h.state().selected, back);
+    h.get_by_label_contains("Shrink the field to").click();
+    h.run();
+    let lumenrail_bench::model::ObjectSpec::Distant { field_deg, .. } = h.state().bench.object else { panic!() };
+    // The first iris's rim, shifted by 40 tan θ, meets 99.5% of the second's radius (plane geometry).
+    let want = ((0.995 * 5.0 - 4.0) / 40.0f64).atan().to_degrees();
+    assert!(field_deg <= want && field_deg > want - 2e-3, "{field_deg} vs {want}");
+    let r = &h.state().evaluation.report;
+    assert_eq!(r.off_axis_area_transmission, Some(1.0));
+    assert!(!r.warnings.iter().any(|w| w.message.contains("vignetting")), "{:?}", r.warnings);
+}
