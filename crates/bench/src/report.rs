@@ -136,6 +136,11 @@ pub struct Aberrations {
     pub depth_of_focus_mm: Option<f64>,
     /// Seidel sums S_I..S_V, C_I, C_II (mm; Welford).
     pub seidel: Option<SeidelTerms>,
+    /// Best focus for white light: the plane of least on-axis RMS radius over every wavelength together,
+    /// each weighted equally.
+    pub white_light_focus_at_mm: Option<f64>,
+    /// The white-light RMS radius there, µm.
+    pub white_light_rms_spot_um: Option<f64>,
 }
 
 /// Figures of an afocal bench (telescope, beam expander).
@@ -428,6 +433,8 @@ impl Report {
             image_na: a.image_na,
             depth_of_focus_mm: a.depth_of_focus_mm,
             seidel: a.seidel.as_ref().map(|s| s.total),
+            white_light_focus_at_mm: a.white_light_focus.map(|w| w.at_mm),
+            white_light_rms_spot_um: a.white_light_focus.map(|w| um(w.rms_mm)),
         };
         self.off_axis_transmission = a.off_axis_transmission;
         self.off_axis_area_transmission = a.off_axis_area_transmission;
@@ -664,6 +671,15 @@ impl Report {
                 t,
                 "  working f-number {n:.3}   Airy radius {r:.2} µm   depth of focus ±{}",
                 mm(ab.depth_of_focus_mm)
+            );
+        }
+        if let (Some(z), Some(r)) = (ab.white_light_focus_at_mm, ab.white_light_rms_spot_um)
+            && self.colour.len() > 1
+        {
+            let _ = writeln!(
+                t,
+                "  best focus for white light (every wavelength, equal weights) {} mm, RMS {r:.2} µm",
+                fixed(z, 3)
             );
         }
         if let Some(v) = self.off_axis_transmission {

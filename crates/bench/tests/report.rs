@@ -142,3 +142,44 @@ fn warnings_name_their_kind_and_part() {
     assert_eq!(first["kind"], "layout");
     assert!(first["message"].as_str().unwrap().contains("overlap"), "{first}");
 }
+
+/// The white-light best focus: with one wavelength it is the report's own best focus (the same rings);
+/// with the singlet's F, d and C lines, polychromatic RMS² is a quadratic in the plane's position (straight
+/// rays), so the plane found is its minimum: the RMS computed independently from each wavelength's own
+/// spot figures (mean of the squares) is larger a millimetre either side, and the plane lies between the
+/// F and C foci (longitudinal colour of a crown singlet: F focuses first, Hecht sec. 6.3.2).
+#[test]
+fn the_white_light_focus_is_the_least_polychromatic_spot() {
+    let best = lumenrail_bench::evaluation::Evaluation::of(
+        &parse("t", lumenrail_bench::demos::find("colour-singlet").unwrap().text).unwrap().bench,
+    );
+    let r = &best.report;
+    let a = best.analysis().unwrap();
+    let zw = r.aberrations.white_light_focus_at_mm.unwrap();
+    let poly = |z: f64| -> f64 {
+        let ms: f64 = a
+            .wavelengths
+            .iter()
+            .map(|w| {
+                let p = w.pupils.as_ref().unwrap();
+                let s = lumenrail_optics::spot::spot_figures(&w.seq, best.compiled().unwrap().object, p, &[z]).unwrap();
+                s.planes[0].rms_mm.powi(2)
+            })
+            .sum::<f64>()
+            / a.wavelengths.len() as f64;
+        ms.sqrt()
+    };
+    let at = poly(zw);
+    assert!(((at * 1e3) - r.aberrations.white_light_rms_spot_um.unwrap()).abs() < 1e-6 * at * 1e3);
+    assert!(poly(zw - 1.0) > at && poly(zw + 1.0) > at);
+    let (f, c) = (r.colour[0].image_at_mm.unwrap(), r.colour[2].image_at_mm.unwrap());
+    assert!(f < zw && zw < c, "{f} {zw} {c}");
+    // One wavelength: the white-light focus is the ordinary best focus.
+    let mut b = parse("t", lumenrail_bench::demos::find("plano-convex-flat-first").unwrap().text).unwrap().bench;
+    b.wavelengths_nm = vec![587.5618];
+    b.primary_wavelength = 0;
+    let single = lumenrail_bench::evaluation::Evaluation::of(&b);
+    let s = single.analysis().unwrap().spot.clone().unwrap().unwrap();
+    let w = single.report.aberrations.white_light_focus_at_mm.unwrap();
+    assert!((w - s.best_focus_at_mm.unwrap()).abs() < 1e-9, "{w} vs {:?}", s.best_focus_at_mm);
+}

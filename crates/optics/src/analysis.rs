@@ -134,6 +134,62 @@ pub struct FieldFigures {
     pub lateral_colour_mm: Option<f64>,
 }
 
+/// The best focus for white light: the plane of least RMS spot radius of the on-axis point over every
+/// wavelength together, each weighted equally (the bench lists no weights), about the axis where the
+/// on-axis centroid lies.
+#[derive(Debug, Clone, Copy, PartialEq)]
+#[cfg_attr(feature = "serde", derive(serde::Serialize))]
+pub struct WhiteFocus {
+    /// Rail position of the plane.
+    pub at_mm: f64,
+    /// The polychromatic RMS radius there, mm.
+    pub rms_mm: f64,
+}
+
+/// The on-axis bundles of several wavelengths as one: the weighted sums that make the polychromatic
+/// RMS² a quadratic in the plane's position, RMS²(z) = A + 2B(z − z₀) + C(z − z₀)².
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct WhiteLight {
+    z_ref: f64,
+    a: f64,
+    b: f64,
+    c: f64,
+}
+
+impl WhiteLight {
+    /// The sums over `spots` (each an on-axis bundle, weighted equally) about the plane `z_ref`.
+    pub fn of(spots: &[crate::spot::AxialSpot<'_>], z_ref: f64) -> Option<WhiteLight> {
+        if spots.is_empty() {
+            return None;
+        }
+        let share = 1.0 / spots.len() as f64;
+        let (mut a, mut b, mut c) = (0.0, 0.0, 0.0);
+        for spot in spots {
+            for r in &spot.rings {
+                let (y, s) = (r.ray.height_at(z_ref), r.ray.slope());
+                a += share * r.weight * y * y;
+                b += share * r.weight * y * s;
+                c += share * r.weight * s * s;
+            }
+        }
+        Some(WhiteLight { z_ref, a, b, c })
+    }
+
+    /// The polychromatic RMS radius at the plane `z_mm`.
+    pub fn rms_at(&self, z_mm: f64) -> f64 {
+        let t = z_mm - self.z_ref;
+        (self.a + t * (2.0 * self.b + t * self.c)).max(0.0).sqrt()
+    }
+
+    /// The plane of least polychromatic RMS radius (`None`: the light leaves collimated).
+    pub fn best(&self) -> Option<WhiteFocus> {
+        (self.c > 1e-24).then(|| {
+            let at_mm = self.z_ref - self.b / self.c;
+            WhiteFocus { at_mm, rms_mm: self.rms_at(at_mm) }
+        })
+    }
+}
+
 /// A final image that is for viewing, not for a screen: a virtual image (the light leaves diverging, as
 /// from a magnifier or an eyepiece), seen from the exit pupil, where the viewer's eye goes.
 #[derive(Debug, Clone, Copy, PartialEq)]
@@ -190,6 +246,8 @@ pub struct Analysis {
     /// Field curvature, astigmatism, distortion and lateral colour of the off-axis point (`None` without
     /// a final image or an off-axis point).
     pub field: Option<FieldFigures>,
+    /// The best focus for white light (every wavelength together), for a real final image.
+    pub white_light_focus: Option<WhiteFocus>,
     /// The first clear aperture (surface index) that clips the off-axis point's pupil (`None`: nothing
     /// does, or not asked).
     pub off_axis_clipped_by: Option<usize>,
@@ -288,6 +346,7 @@ pub fn analyse_wavelengths(wavelengths: Vec<Wavelength>, request: &Request) -> R
         field: None,
         off_axis_clipped_by: None,
         unclipped_field: None,
+        white_light_focus: None,
         viewing: None,
     };
     let (shortest, longest) = analysis.extreme_wavelengths();
@@ -359,6 +418,16 @@ pub fn analyse_wavelengths(wavelengths: Vec<Wavelength>, request: &Request) -> R
         }
         s
     }));
+    if final_real && let Some(Ok(s)) = &analysis.spot {
+        let spots: Vec<crate::spot::AxialSpot<'_>> = analysis
+            .wavelengths
+            .iter()
+            .filter_map(|w| crate::spot::AxialSpot::trace(&w.seq, object, w.pupils.as_ref().ok()?, s.rings).ok())
+            .collect();
+        if spots.len() == analysis.wavelengths.len() {
+            analysis.white_light_focus = WhiteLight::of(&spots, s.marginal.z_mm).and_then(|w| w.best());
+        }
+    }
     analysis.partial_spots = request.partial_planes.iter().map(|plane| partial_spot(seq, object, *plane)).collect();
     if request.vignetting {
         // A field whose rim clears every aperture passes whole: both shares are exactly 1.

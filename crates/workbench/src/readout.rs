@@ -70,6 +70,14 @@ impl Workbench {
         if let (Some(nw), Some(airy)) = (ab.working_f_number, ab.airy_radius_um) {
             ui.label(format!("Working f-number {nw:.2}, Airy radius {airy:.2} µm"));
         }
+        if let (Some(z), Some(rms)) = (ab.white_light_focus_at_mm, ab.white_light_rms_spot_um)
+            && r.colour.len() > 1
+        {
+            ui.label(format!(
+                "Best focus for white light (all wavelengths, equal weights) at {} mm, RMS {rms:.2} µm",
+                fixed(z, 3)
+            ));
+        }
         ui.label(format!(
             "Marginal LSA {}, colour focal shift {}",
             mm(ab.marginal_lsa_mm),
