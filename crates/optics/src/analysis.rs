@@ -9,7 +9,7 @@ use crate::paraxial::{self, FirstOrder, Object, ParaxialImage};
 use crate::pupil::{FieldPoint, PupilError, Pupils, meridional_transmission};
 use crate::sampling::{SkewAimer, pupil_transmission_integrated, rim_clears_with, rim_clipper, unclipped_field};
 use crate::seidel::{Seidel, seidel};
-use crate::spot::{SpotError, SpotFigures, spot_figures};
+use crate::spot::{AxialSpot, RadialMoments, SpotError, SpotFigures, spot_figures};
 use crate::system::{Sequence, System, SystemError};
 
 /// The first zero of J₁ divided by π: the Airy disk's first dark ring lies at this many λN
@@ -144,50 +144,6 @@ pub struct WhiteFocus {
     pub at_mm: f64,
     /// The polychromatic RMS radius there, mm.
     pub rms_mm: f64,
-}
-
-/// The on-axis bundles of several wavelengths as one: the weighted sums that make the polychromatic
-/// RMS² a quadratic in the plane's position, RMS²(z) = A + 2B(z − z₀) + C(z − z₀)².
-#[derive(Debug, Clone, Copy, PartialEq)]
-pub struct WhiteLight {
-    z_ref: f64,
-    a: f64,
-    b: f64,
-    c: f64,
-}
-
-impl WhiteLight {
-    /// The sums over `spots` (each an on-axis bundle, weighted equally) about the plane `z_ref`.
-    pub fn of(spots: &[crate::spot::AxialSpot<'_>], z_ref: f64) -> Option<WhiteLight> {
-        if spots.is_empty() {
-            return None;
-        }
-        let share = 1.0 / spots.len() as f64;
-        let (mut a, mut b, mut c) = (0.0, 0.0, 0.0);
-        for spot in spots {
-            for r in &spot.rings {
-                let (y, s) = (r.ray.height_at(z_ref), r.ray.slope());
-                a += share * r.weight * y * y;
-                b += share * r.weight * y * s;
-                c += share * r.weight * s * s;
-            }
-        }
-        Some(WhiteLight { z_ref, a, b, c })
-    }
-
-    /// The polychromatic RMS radius at the plane `z_mm`.
-    pub fn rms_at(&self, z_mm: f64) -> f64 {
-        let t = z_mm - self.z_ref;
-        (self.a + t * (2.0 * self.b + t * self.c)).max(0.0).sqrt()
-    }
-
-    /// The plane of least polychromatic RMS radius (`None`: the light leaves collimated).
-    pub fn best(&self) -> Option<WhiteFocus> {
-        (self.c > 1e-24).then(|| {
-            let at_mm = self.z_ref - self.b / self.c;
-            WhiteFocus { at_mm, rms_mm: self.rms_at(at_mm) }
-        })
-    }
 }
 
 /// A final image that is for viewing, not for a screen: a virtual image (the light leaves diverging, as
@@ -419,13 +375,29 @@ pub fn analyse_wavelengths(wavelengths: Vec<Wavelength>, request: &Request) -> R
         s
     }));
     if final_real && let Some(Ok(s)) = &analysis.spot {
-        let spots: Vec<crate::spot::AxialSpot<'_>> = analysis
+        // Equal weights: the mean of each wavelength's moments about one plane (the primary's are known).
+        let z_ref = s.moments.z_ref;
+        let moments: Vec<RadialMoments> = analysis
             .wavelengths
             .iter()
-            .filter_map(|w| crate::spot::AxialSpot::trace(&w.seq, object, w.pupils.as_ref().ok()?, s.rings).ok())
+            .enumerate()
+            .filter_map(|(k, w)| {
+                if k == request.primary {
+                    return Some(s.moments);
+                }
+                let spot = AxialSpot::trace(&w.seq, object, w.pupils.as_ref().ok()?, s.rings).ok()?;
+                Some(RadialMoments::of(&spot, z_ref))
+            })
             .collect();
-        if spots.len() == analysis.wavelengths.len() {
-            analysis.white_light_focus = WhiteLight::of(&spots, s.marginal.z_mm).and_then(|w| w.best());
+        if moments.len() == analysis.wavelengths.len() {
+            let n = moments.len() as f64;
+            let mean = RadialMoments {
+                z_ref,
+                a: moments.iter().map(|m| m.a).sum::<f64>() / n,
+                b: moments.iter().map(|m| m.b).sum::<f64>() / n,
+                c: moments.iter().map(|m| m.c).sum::<f64>() / n,
+            };
+            analysis.white_light_focus = mean.best().map(|(at_mm, rms_mm)| WhiteFocus { at_mm, rms_mm });
         }
     }
     analysis.partial_spots = request.partial_planes.iter().map(|plane| partial_spot(seq, object, *plane)).collect();

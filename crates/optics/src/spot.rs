@@ -264,6 +264,55 @@ pub struct SpotFigures {
     pub rings: usize,
     /// Share of the stop's area whose rays were stopped.
     pub blocked_share: f64,
+    /// The converged rings' radial moments, for sums over wavelengths.
+    pub moments: RadialMoments,
+}
+
+/// The area-weighted sums of an on-axis bundle's straight rays about a plane z₀: with t = z − z₀,
+/// RMS²(z) = a + 2bt + ct² (heights y, slopes s: a = Σwy², b = Σwys, c = Σws²).
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct RadialMoments {
+    /// The reference plane.
+    pub z_ref: f64,
+    /// Σ w y².
+    pub a: f64,
+    /// Σ w y s.
+    pub b: f64,
+    /// Σ w s².
+    pub c: f64,
+}
+
+impl RadialMoments {
+    /// The moments of `spot`'s rings about `z_ref`.
+    pub fn of(spot: &AxialSpot<'_>, z_ref: f64) -> RadialMoments {
+        let (mut a, mut b, mut c) = (0.0, 0.0, 0.0);
+        for r in &spot.rings {
+            let (y, s) = (r.ray.height_at(z_ref), r.ray.slope());
+            a += r.weight * y * y;
+            b += r.weight * y * s;
+            c += r.weight * s * s;
+        }
+        RadialMoments { z_ref, a, b, c }
+    }
+
+    /// The same moments about another plane.
+    pub fn about(&self, z_ref: f64) -> RadialMoments {
+        let t = z_ref - self.z_ref;
+        RadialMoments { z_ref, a: self.a + t * (2.0 * self.b + t * self.c), b: self.b + t * self.c, c: self.c }
+    }
+
+    /// RMS radius at the plane `z_mm`.
+    pub fn rms_at(&self, z_mm: f64) -> f64 {
+        self.about(z_mm).a.max(0.0).sqrt()
+    }
+
+    /// The plane of least RMS radius and that radius (`None`: the light leaves collimated).
+    pub fn best(&self) -> Option<(f64, f64)> {
+        (self.c > 1e-24).then(|| {
+            let z = self.z_ref - self.b / self.c;
+            (z, self.rms_at(z))
+        })
+    }
 }
 
 /// Computes converged [`SpotFigures`] at `planes_mm`.
@@ -303,6 +352,7 @@ pub fn spot_figures(
                 marginal: spot.marginal,
                 rings,
                 blocked_share: spot.blocked_share,
+                moments: RadialMoments::of(&spot, spot.marginal.z_mm),
             });
         }
         prev = Some(figures);
