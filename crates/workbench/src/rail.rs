@@ -176,8 +176,10 @@ pub(crate) fn rail_ui(wb: &mut Workbench, ui: &mut egui::Ui) {
     if let Some(i) = wb.selected.filter(|&i| i < wb.bench.parts.len()) {
         focal_marks_ui(&painter, &f, wb, i);
     }
-    for i in 0..wb.bench.parts.len() {
-        part_ui(wb, ui, &painter, &scale_painter, &f, i);
+    // Parts in rail order, so that each label can step up above a neighbour's it would overlap.
+    let mut labels: Vec<Rect> = Vec::new();
+    for i in wb.bench.rail_order() {
+        part_ui(wb, ui, &painter, &scale_painter, &f, i, &mut labels);
     }
 }
 
@@ -281,6 +283,53 @@ fn focal_marks_ui(painter: &egui::Painter, f: &Frame, wb: &Workbench, index: usi
     }
 }
 
+/// Rows a part's label may step up to clear its neighbours' before it is shortened.
+const LABEL_ROWS: usize = 3;
+
+/// Draws a part's name centred above `anchor`, one row higher for each placed label it would overlap (up
+/// to [`LABEL_ROWS`] rows); where every row is taken, the name is shortened with "…" to the free width
+/// (the part's tooltip has it whole). Returns nothing; the placed rectangle joins `placed`.
+fn part_label(painter: &egui::Painter, anchor: Pos2, name: &str, colour: Color32, placed: &mut Vec<Rect>) {
+    let font = egui::FontId::proportional(12.0);
+    let galley = painter.layout_no_wrap(name.to_string(), font.clone(), colour);
+    let size = galley.size();
+    let row_h = size.y + 2.0;
+    let rect_at = |row: usize, width: f32| {
+        Rect::from_center_size(pos2(anchor.x, anchor.y - 0.5 * size.y - row as f32 * row_h), vec2(width + 4.0, size.y))
+    };
+    for row in 0..LABEL_ROWS {
+        let r = rect_at(row, size.x);
+        if !placed.iter().any(|p| p.intersects(r)) {
+            painter.galley(r.min + vec2(2.0, 0.0), galley, colour);
+            placed.push(r);
+            return;
+        }
+    }
+    // Every row is taken: shorten the name to fit between the labels on the lowest row.
+    let row0 = rect_at(0, size.x);
+    let left = placed
+        .iter()
+        .filter(|p| p.center().x < anchor.x && p.intersects(row0))
+        .map(|p| p.right())
+        .fold(f32::MIN, f32::max);
+    let right = placed
+        .iter()
+        .filter(|p| p.center().x >= anchor.x && p.intersects(row0))
+        .map(|p| p.left())
+        .fold(f32::MAX, f32::min);
+    let room = 2.0 * (anchor.x - left).min(right - anchor.x) - 6.0;
+    let mut short: String = name.to_string();
+    while !short.is_empty() && painter.layout_no_wrap(format!("{short}…"), font.clone(), colour).size().x > room {
+        short.pop();
+    }
+    if !short.is_empty() {
+        let g = painter.layout_no_wrap(format!("{short}…"), font, colour);
+        let r = Rect::from_center_size(row0.center(), g.size());
+        painter.galley(r.min, g, colour);
+        placed.push(r);
+    }
+}
+
 /// The outline of a lens of surfaces at `vertices` over the semi-diameter, as a closed polygon per element.
 fn lens_outline(f: &Frame, surfaces: &[(f64, SurfaceSpec)], semi: f64) -> Vec<Vec<Pos2>> {
     const N: usize = 24;
@@ -303,7 +352,15 @@ fn lens_outline(f: &Frame, surfaces: &[(f64, SurfaceSpec)], semi: f64) -> Vec<Ve
         .collect()
 }
 
-fn part_ui(wb: &mut Workbench, ui: &mut egui::Ui, painter: &egui::Painter, scale: &egui::Painter, f: &Frame, i: usize) {
+fn part_ui(
+    wb: &mut Workbench,
+    ui: &mut egui::Ui,
+    painter: &egui::Painter,
+    scale: &egui::Painter,
+    f: &Frame,
+    i: usize,
+    labels: &mut Vec<Rect>,
+) {
     let part = wb.bench.parts[i].clone();
     let semi = 0.5 * part.kind.diameter_mm();
     let selected = wb.selected == Some(i);
@@ -376,7 +433,7 @@ fn part_ui(wb: &mut Workbench, ui: &mut egui::Ui, painter: &egui::Painter, scale
         [pos2(f.at(part.at_mm, 0.0).x, y_rail - 12.0), pos2(f.at(part.at_mm, 0.0).x, y_rail)],
         Stroke::new(1.0, edge),
     );
-    painter.text(top - vec2(0.0, 6.0), egui::Align2::CENTER_BOTTOM, &part.name, egui::FontId::proportional(12.0), edge);
+    part_label(painter, top - vec2(0.0, 6.0), &part.name, edge, labels);
 
     let hit = hit.union(carrier).intersect(f.rect);
     let id = ui.scope_id().with(("part", i));
@@ -462,4 +519,34 @@ fn clamp_move(wb: &Workbench, i: usize, start: f64, target: f64, pass: bool) -> 
         return start;
     }
     target.clamp(lo, hi)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    /// Labels of neighbouring parts never overlap: the second steps up a row, and when every row is taken
+    /// the name is shortened with "…" (or left to the tooltip when there is no room).
+    #[test]
+    fn neighbouring_labels_step_up_and_then_shorten() {
+        let ctx = egui::Context::default();
+        let mut placed = Vec::new();
+        let mut out = ctx.run_ui(egui::RawInput::default(), |ui| {
+            let painter = ui.painter().clone();
+            for x in [200.0, 206.0, 212.0, 290.0, 296.0] {
+                part_label(&painter, pos2(x, 300.0), "A long part name", Color32::WHITE, &mut placed);
+            }
+        });
+        out.textures_delta.clear();
+        // Three rows hold the first three; the fourth is shortened into the room beside the first; the
+        // fifth has no room left at all (its tooltip still names it).
+        assert_eq!(placed.len(), 4);
+        for (a, ra) in placed.iter().enumerate() {
+            for rb in &placed[a + 1..] {
+                assert!(!ra.intersects(*rb), "{ra:?} and {rb:?} overlap");
+            }
+        }
+        assert!(placed[1].bottom() < placed[0].top() + 1.0, "the second label did not step up");
+        assert!(placed[3].width() < placed[0].width(), "the fourth label was not shortened");
+    }
 }
