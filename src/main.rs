@@ -45,13 +45,20 @@ enum Command {
     },
     /// List the built-in materials with their published sources.
     Materials,
-    /// Write one analysis view of a bench as a CSV table and/or a PNG picture (drawn without a window).
+    /// Write one analysis view of a bench as a CSV table and/or a PNG picture (drawn without a window), or
+    /// the rail drawing as SVG (`--view rail --svg OUT.svg`, with `--text OUT.txt` for the readout's text).
     Export {
         /// The bench file (.bench.ron).
         file: PathBuf,
-        /// The view: spot, fan, sweep, colour or field.
-        #[arg(long, value_parser = ["spot", "fan", "sweep", "colour", "field"])]
+        /// The view: spot, fan, sweep, colour, field, or rail (the bench drawn to scale).
+        #[arg(long, value_parser = ["spot", "fan", "sweep", "colour", "field", "rail"])]
         view: String,
+        /// Where to write the rail drawing (with `--view rail`).
+        #[arg(long, value_name = "OUT.svg")]
+        svg: Option<PathBuf>,
+        /// Where to write the readout's figures as text (with `--view rail`).
+        #[arg(long, value_name = "OUT.txt")]
+        text: Option<PathBuf>,
         /// Where to write the view's data (header row with units, one row per datum).
         #[arg(long, value_name = "OUT.csv")]
         csv: Option<PathBuf>,
@@ -88,7 +95,10 @@ fn main() -> ExitCode {
         Some(Command::Report { file, json }) => report(&file, json),
         Some(Command::Check { file }) => check(&file),
         Some(Command::Demos { name }) => demos_cmd(name.as_deref()),
-        Some(Command::Export { file, view, csv, png, plane, grid }) => {
+        Some(Command::Export { file, view, svg, text, .. }) if view == "rail" => {
+            export_rail(&file, svg.as_deref(), text.as_deref())
+        }
+        Some(Command::Export { file, view, csv, png, plane, grid, .. }) => {
             export(&file, &view, csv.as_deref(), png.as_deref(), plane.as_deref(), &grid)
         }
         Some(Command::Materials) => {
@@ -130,6 +140,38 @@ fn report(path: &Path, json: bool) -> ExitCode {
     let mut out = std::io::stdout().lock();
     let _ = writeln!(out, "{text}");
     if let Some(why) = &report.trace_failure {
+        eprintln!("{}: cannot trace as asked: {why}", path.display());
+        return ExitCode::from(1);
+    }
+    ExitCode::SUCCESS
+}
+
+/// `lumenrail export FILE --view rail --svg OUT.svg [--text OUT.txt]`: the rail drawing and the readout.
+fn export_rail(path: &Path, svg: Option<&Path>, text: Option<&Path>) -> ExitCode {
+    if svg.is_none() && text.is_none() {
+        eprintln!("lumenrail export: say where to write the rail: --svg OUT.svg and/or --text OUT.txt");
+        return ExitCode::from(2);
+    }
+    let Some(loaded) = load(path) else {
+        return ExitCode::from(2);
+    };
+    let evaluation = lumenrail_bench::evaluation::Evaluation::of(&loaded.bench);
+    let scene = lumenrail_export::scene::Scene::of(&evaluation);
+    let mut outputs: Vec<(&Path, Vec<u8>)> = Vec::new();
+    if let Some(p) = svg {
+        outputs.push((p, lumenrail_export::rail::rail_svg(&evaluation, &scene).into_bytes()));
+    }
+    if let Some(p) = text {
+        outputs.push((p, evaluation.report.to_text().into_bytes()));
+    }
+    for (out, bytes) in outputs {
+        if let Err(e) = file::write_atomic(out, &bytes) {
+            eprintln!("lumenrail export: {e}");
+            return ExitCode::from(2);
+        }
+        eprintln!("wrote {}", out.display());
+    }
+    if let Some(why) = &evaluation.report.trace_failure {
         eprintln!("{}: cannot trace as asked: {why}", path.display());
         return ExitCode::from(1);
     }

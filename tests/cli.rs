@@ -356,3 +356,28 @@ fn export_refuses_bad_requests() {
     assert_eq!(o.status.code(), Some(0), "{}", stderr(&o));
     assert!(!stderr(&o).contains("panicked"));
 }
+
+/// `lumenrail export FILE --view rail --svg OUT --text OUT` writes the rail drawing (an SVG an XML reader
+/// takes) and the readout's figures as text, with no display.
+#[test]
+fn export_rail_writes_the_drawing_and_the_readout() {
+    let bench = write("rail.bench.ron", demo("unit-relay"));
+    let (svg, text) = (scratch("rail.svg"), scratch("rail.txt"));
+    let o = run(&[
+        "export",
+        bench.to_str().unwrap(),
+        "--view",
+        "rail",
+        "--svg",
+        svg.to_str().unwrap(),
+        "--text",
+        text.to_str().unwrap(),
+    ]);
+    assert!(o.status.success(), "{}", stderr(&o));
+    let drawing = std::fs::read_to_string(&svg).unwrap();
+    assert!(drawing.starts_with("<svg") && drawing.contains("Relay A") && drawing.contains("mm from the datum"));
+    let readout = std::fs::read_to_string(&text).unwrap();
+    assert!(readout.contains("Aperture stop: Relay A"), "{readout}");
+    let o = run(&["export", bench.to_str().unwrap(), "--view", "rail"]);
+    assert_eq!(o.status.code(), Some(2), "no output asked for");
+}

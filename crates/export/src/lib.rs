@@ -8,3 +8,5 @@ pub mod colour;
 pub mod csv;
 pub mod picture;
 pub mod plots;
+pub mod rail;
+pub mod scene;

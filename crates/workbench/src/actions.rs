@@ -25,6 +25,8 @@ pub enum Action {
     ExportCsvByPath,
     /// Export the open view's PNG by a typed path.
     ExportPngByPath,
+    /// Export the rail drawing as SVG by a typed path.
+    ExportDrawingByPath,
     /// Undo the last edit.
     Undo,
     /// Redo the last undone edit.
@@ -147,6 +149,7 @@ pub const ACTIONS: &[ActionInfo] = &[
     entry(Action::SaveAsByPath, Menu::File, "Save as by path…", &[]),
     entry(Action::ExportCsvByPath, Menu::File, "Export view CSV by path…", &[]),
     entry(Action::ExportPngByPath, Menu::File, "Export view PNG by path…", &[]),
+    entry(Action::ExportDrawingByPath, Menu::File, "Export drawing SVG by path…", &[]),
     entry(Action::Undo, Menu::Edit, "Undo", &[Shortcut::ctrl(Key::Z)]),
     entry(Action::Redo, Menu::Edit, "Redo", &[Shortcut::ctrl_shift(Key::Z), Shortcut::ctrl(Key::Y)]),
     entry(Action::DuplicatePart, Menu::Edit, "Duplicate part", &[]),
@@ -250,6 +253,11 @@ impl Workbench {
                 let png = action == Action::ExportPngByPath;
                 let kind = self.views.tab;
                 self.path_prompt = Some((PathPrompt::Export(kind, png), self.export_path(kind, png)));
+            }
+            Action::ExportDrawingByPath => {
+                let dir = self.path.as_ref().and_then(|p| p.parent()).map(std::path::Path::to_path_buf);
+                let name = dir.unwrap_or_default().join("bench-rail.svg");
+                self.path_prompt = Some((PathPrompt::Drawing, name.display().to_string()));
             }
             Action::Undo => self.undo(),
             Action::Redo => self.redo(),

@@ -6,6 +6,21 @@ use crate::{PathPrompt, Workbench};
 use std::path::PathBuf;
 
 impl Workbench {
+    /// Writes the rail drawing as SVG to `path` (atomically); the status line says what happened.
+    pub fn export_drawing(&mut self, path: &std::path::Path) -> bool {
+        let svg = lumenrail_export::rail::rail_svg(&self.evaluation, &self.scene);
+        match lumenrail_bench::file::write_atomic(path, svg.as_bytes()) {
+            Ok(()) => {
+                self.status = format!("wrote the rail drawing to {}", path.display());
+                true
+            }
+            Err(e) => {
+                self.status = e.to_string();
+                false
+            }
+        }
+    }
+
     pub(crate) fn windows_ui(&mut self, ctx: &egui::Context) {
         egui::Window::new("Getting started").open(&mut self.show_start).default_width(460.0).show(ctx, |ui| {
             ui.label(GETTING_STARTED);
@@ -34,6 +49,7 @@ impl Workbench {
                 PathPrompt::SaveAs => ("Save bench as", "Path of the .bench.ron file:", "Save"),
                 PathPrompt::Export(_, true) => ("Export view", "Path of the PNG picture:", "Export"),
                 PathPrompt::Export(_, false) => ("Export view", "Path of the CSV table:", "Export"),
+                PathPrompt::Drawing => ("Export drawing", "Path of the SVG drawing:", "Export"),
             };
             let mut go = false;
             egui::Window::new(title).collapsible(false).show(ctx, |ui| {
@@ -60,6 +76,7 @@ impl Workbench {
                         saved
                     }
                     PathPrompt::Export(view, png) => self.export_view(view, png, &path),
+                    PathPrompt::Drawing => self.export_drawing(&path),
                 };
             }
         }

@@ -15,7 +15,6 @@ mod menus;
 pub mod plots;
 mod rail;
 mod readout;
-pub mod scene;
 mod settings;
 mod sheet;
 
@@ -24,6 +23,7 @@ use document::History;
 pub use document::{BenchSettings, Edit};
 use lumenrail_bench::evaluation::Evaluation;
 use lumenrail_bench::model::Bench;
+pub use lumenrail_export::scene;
 use scene::Scene;
 use std::path::PathBuf;
 
@@ -87,6 +87,8 @@ pub(crate) enum PathPrompt {
     SaveAs,
     /// Export a view: as PNG (`true`) or CSV.
     Export(lumenrail_bench::views::ViewKind, bool),
+    /// Export the rail drawing as SVG.
+    Drawing,
 }
 
 impl Workbench {

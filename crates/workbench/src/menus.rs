@@ -35,6 +35,7 @@ impl Workbench {
                 ui.separator();
                 self.action_button(ui, Action::ExportCsvByPath);
                 self.action_button(ui, Action::ExportPngByPath);
+                self.action_button(ui, Action::ExportDrawingByPath);
             });
             ui.menu_button("Edit", |ui| {
                 self.action_button(ui, Action::Undo);

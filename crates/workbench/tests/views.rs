@@ -185,3 +185,25 @@ fn at_1280_by_800_every_panel_stays_in_its_area() {
         assert!(readout.min.x >= 1280.0 - 560.0 - 1.0, "{demo}: the readout widened to {readout:?}");
     }
 }
+
+/// File, Export drawing SVG by path writes the rail drawing the workbench shows.
+#[test]
+fn the_rail_drawing_exports_as_svg_from_the_file_menu() {
+    let path = std::env::temp_dir().join(format!("lumenrail-drawing-{}.svg", std::process::id()));
+    let mut h = harness("unit-relay");
+    h.get_by_label("File").click();
+    h.run();
+    h.get_by_label("Export drawing SVG by path…").click();
+    h.run();
+    h.get_by_label("Path of the SVG drawing:").focus();
+    h.run();
+    h.key_press_modifiers(egui::Modifiers::COMMAND, Key::A);
+    h.run();
+    h.get_by_label("Path of the SVG drawing:").type_text(path.to_str().unwrap());
+    h.run();
+    h.key_press(Key::Enter);
+    h.run();
+    let svg = std::fs::read_to_string(&path).unwrap_or_else(|e| panic!("{e}: {}", h.state().status));
+    assert!(svg.contains("Relay B") && svg.contains("Camera plane"));
+    let _ = std::fs::remove_file(&path);
+}
