@@ -19,7 +19,9 @@ pub fn encode_png(img: &image::RgbaImage) -> Option<Vec<u8>> {
 pub fn view_png(views: &Views, kind: ViewKind, title: &str) -> image::RgbaImage {
     crate::picture::render(1200.0, 640.0, 1.5, |ui| {
         ui.heading(format!("{title}: {} view", kind.word()));
-        draw_view(ui, views, kind, false, 470.0);
+        // The plots fill the picture; the spot view keeps room for its figures beneath.
+        let below = if kind == ViewKind::Spot { 110.0 } else { 50.0 };
+        draw_view(ui, views, kind, false, (ui.available_height() - below).max(300.0));
     })
 }
 
@@ -233,7 +235,9 @@ fn colour_ui(ui: &mut egui::Ui, views: &Views, interactive: bool, height: f32) {
                 })
                 .collect();
             let marks = marks.clone();
-            plot(id, "wavelength, nm", y_label, interactive, height).show(col, |p| {
+            // The focus curve rises to the right: its legend goes to the free upper left.
+            let legend = Legend::default().position(egui_plot::Corner::LeftTop);
+            plot(id, "wavelength, nm", y_label, interactive, height).legend(legend).show(col, |p| {
                 for (w, c) in &marks {
                     p.vline(VLine::new(format!("{} nm", fixed(*w, 1)), *w).color(*c));
                 }
@@ -262,7 +266,7 @@ fn field_ui(ui: &mut egui::Ui, views: &Views, interactive: bool, height: f32) {
         let d: Vec<[f64; 2]> = v.points.iter().filter_map(|p| p.distortion_percent.map(|d| [d, field(p)])).collect();
         plot("field distortion", "distortion, %", label, interactive, height).show(&mut cols[1], |p| {
             p.line(Line::new("distortion", PlotPoints::from(d)).width(1.5));
-            p.vline(VLine::new("none", 0.0).color(Color32::GRAY));
+            p.vline(VLine::new("no distortion", 0.0).color(Color32::GRAY));
         });
     });
 }
