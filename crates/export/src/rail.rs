@@ -262,8 +262,8 @@ fn arrow(map: &Map, at_mm: f64, height_mm: f64, colour: &str, dashed: bool) -> G
 }
 
 /// The outline of a lens of surfaces at their vertices over the semi-diameter, one closed polygon per
-/// element of glass, in rail coordinates (mm).
-fn outline(surfaces: &[(f64, SurfaceSpec)], semi: f64) -> Vec<Vec<(f64, f64)>> {
+/// element of glass, in rail coordinates (mm): what the workbench's rail and the SVG both draw.
+pub fn outline(surfaces: &[(f64, SurfaceSpec)], semi: f64) -> Vec<Vec<(f64, f64)>> {
     const N: usize = 24;
     let profile = |z: f64, s: &SurfaceSpec| -> Vec<(f64, f64)> {
         let shape = compile::shape(s);

@@ -7,7 +7,7 @@
 use crate::field::{chief_height_at, field_sample};
 use crate::paraxial::{self, FirstOrder, Object, ParaxialImage};
 use crate::pupil::{FieldPoint, PupilError, Pupils, meridional_transmission};
-use crate::sampling::{SkewAimer, pupil_transmission_integrated, rim_clears_with, rim_clipper, unclipped_field};
+use crate::sampling::{SkewAimer, clipped_field_limit, pupil_transmission_integrated, rim_clears_with, rim_clipper};
 use crate::seidel::{Seidel, seidel};
 use crate::spot::{AxialSpot, RadialMoments, SpotError, SpotFigures, spot_figures};
 use crate::system::{Sequence, System, SystemError};
@@ -410,7 +410,7 @@ pub fn analyse_wavelengths(wavelengths: Vec<Wavelength>, request: &Request) -> R
             analysis.unclipped_field = Some(1.0);
         } else {
             analysis.off_axis_clipped_by = rim_clipper(seq, object, p, 1.0);
-            analysis.unclipped_field = unclipped_field(seq, object, p);
+            analysis.unclipped_field = clipped_field_limit(seq, object, p);
             analysis.off_axis_transmission = Some(meridional_transmission(seq, object, p, FieldPoint::OffAxis));
             analysis.off_axis_area_transmission =
                 aimer.ok().and_then(|a| pupil_transmission_integrated(seq, &a, 1.0).ok());

@@ -362,6 +362,21 @@ pub fn rim_clears(seq: &Sequence, object: Object, pupils: &Pupils, fraction: f64
     SkewAimer::new(seq, object, pupils, fraction).is_ok_and(|aimer| rim_clears_with(seq, &aimer, pupils))
 }
 
+/// The launches of the rays through the rim of the real stop ([`RIM_RAYS`] + 1 of them over the half
+/// circle, a hair inside the edge), each aimed from its neighbour; `None` for a ray that cannot be aimed.
+fn rim_rays<'a>(aimer: &'a SkewAimer<'a>) -> impl Iterator<Item = Option<SkewRay>> + 'a {
+    let inside = 1.0 - 1e-12;
+    let a = aimer.stop_semi_mm;
+    let mut near: Option<([f64; 2], (f64, f64))> = None;
+    (0..=RIM_RAYS).map(move |j| {
+        let phi = std::f64::consts::PI * j as f64 / RIM_RAYS as f64;
+        let (px, py) = (inside * phi.sin(), inside * phi.cos());
+        let uv = aimer.parameters_near(px, py, near).ok()?;
+        near = Some((uv, (px * a, py * a)));
+        Some(aimer.launch(uv))
+    })
+}
+
 /// [`rim_clears`] with an aimer already made for the point.
 pub fn rim_clears_with(seq: &Sequence, aimer: &SkewAimer, pupils: &Pupils) -> bool {
     let stop = match pupils.stop {
@@ -387,39 +402,20 @@ pub fn rim_clears_with(seq: &Sequence, aimer: &SkewAimer, pupils: &Pupils) -> bo
     if !clears(aimer.chief_ray()) {
         return false;
     }
-    let inside = 1.0 - 1e-12;
-    let mut near: Option<([f64; 2], (f64, f64))> = None;
-    for j in 0..=RIM_RAYS {
-        let phi = std::f64::consts::PI * j as f64 / RIM_RAYS as f64;
-        let (px, py) = (inside * phi.sin(), inside * phi.cos());
-        let Ok(uv) = aimer.parameters_near(px, py, near) else { return false };
-        let a = aimer.stop_semi_mm;
-        near = Some((uv, (px * a, py * a)));
-        if !clears(aimer.launch(uv)) {
-            return false;
-        }
-    }
-    true
+    rim_rays(aimer).all(|ray| ray.is_some_and(clears))
 }
 
 /// The first clear aperture (its surface index) that stops a ray through the rim of the real stop from
 /// the point at `fraction` of the field, going round the rim (`None`: the whole rim gets through).
 pub fn rim_clipper(seq: &Sequence, object: Object, pupils: &Pupils, fraction: f64) -> Option<usize> {
     let aimer = SkewAimer::new(seq, object, pupils, fraction).ok()?;
-    let inside = 1.0 - 1e-12;
-    let a = aimer.stop_semi_mm;
-    let mut near: Option<([f64; 2], (f64, f64))> = None;
-    let mut first: Option<usize> = None;
-    for j in 0..=RIM_RAYS {
-        let phi = std::f64::consts::PI * j as f64 / RIM_RAYS as f64;
-        let (px, py) = (inside * phi.sin(), inside * phi.cos());
-        let Ok(uv) = aimer.parameters_near(px, py, near) else { continue };
-        near = Some((uv, (px * a, py * a)));
-        if let Err(RayError::Blocked { surface, .. }) = skew::trace(seq, aimer.launch(uv)) {
-            first = Some(first.map_or(surface, |f: usize| f.min(surface)));
-        }
-    }
-    first
+    rim_rays(&aimer)
+        .flatten()
+        .filter_map(|ray| match skew::trace(seq, ray) {
+            Err(RayError::Blocked { surface, .. }) => Some(surface),
+            _ => None,
+        })
+        .min()
 }
 
 /// The largest share of the field (0 to 1 of the object height or field angle) whose stop rim clears
@@ -429,6 +425,11 @@ pub fn unclipped_field(seq: &Sequence, object: Object, pupils: &Pupils) -> Optio
     if rim_clears(seq, object, pupils, 1.0) {
         return Some(1.0);
     }
+    clipped_field_limit(seq, object, pupils)
+}
+
+/// [`unclipped_field`] for a field already known not to clear at its full size.
+pub(crate) fn clipped_field_limit(seq: &Sequence, object: Object, pupils: &Pupils) -> Option<f64> {
     if !rim_clears(seq, object, pupils, 0.0) {
         return None;
     }
@@ -589,18 +590,23 @@ mod tests {
         }
     }
 
+    /// Two irises of semi-apertures `a1` and `a2`, `d` apart, and nothing else.
+    fn two_irises(a1: f64, a2: f64, d: f64) -> Sequence {
+        System {
+            object_medium: Material::AIR,
+            surfaces: vec![Surface::aperture(100.0, a1), Surface::aperture(100.0 + d, a2)],
+        }
+        .at(550.0)
+        .unwrap()
+    }
+
     /// Two irises and nothing between them: a beam at angle θ sees the second iris projected onto the
     /// first, shifted by d tan θ, so the share of the stop that gets through is the overlap of two circles
     /// over the stop's area (the lens-shaped area of two intersecting circles, a plane-geometry exact case).
     #[test]
     fn vignetting_by_two_irises_is_the_overlap_of_two_circles() {
         let (a1, a2, d) = (4.0f64, 5.0f64, 40.0f64);
-        let seq = System {
-            object_medium: Material::AIR,
-            surfaces: vec![Surface::aperture(100.0, a1), Surface::aperture(100.0 + d, a2)],
-        }
-        .at(550.0)
-        .unwrap();
+        let seq = two_irises(a1, a2, d);
         for theta in [0.0f64, 2.0, 5.0, 8.0, 12.0] {
             let object = Object::Distant { field_deg: theta, beam_diameter_mm: 30.0 };
             let pupils = Pupils::find(&seq, &object).unwrap();
@@ -628,12 +634,7 @@ mod tests {
     #[test]
     fn the_clipping_iris_is_named_and_the_unclipped_field_found() {
         let (a1, a2, d) = (4.0f64, 5.0f64, 40.0f64);
-        let seq = System {
-            object_medium: Material::AIR,
-            surfaces: vec![Surface::aperture(100.0, a1), Surface::aperture(100.0 + d, a2)],
-        }
-        .at(550.0)
-        .unwrap();
+        let seq = two_irises(a1, a2, d);
         let object = Object::Distant { field_deg: 5.0, beam_diameter_mm: 30.0 };
         let pupils = Pupils::find(&seq, &object).unwrap();
         assert_eq!(rim_clipper(&seq, object, &pupils, 1.0), Some(1));
@@ -648,12 +649,7 @@ mod tests {
     #[test]
     fn the_rim_certificate_agrees_with_the_integral() {
         let (a1, a2, d) = (4.0f64, 5.0f64, 40.0f64);
-        let seq = System {
-            object_medium: Material::AIR,
-            surfaces: vec![Surface::aperture(100.0, a1), Surface::aperture(100.0 + d, a2)],
-        }
-        .at(550.0)
-        .unwrap();
+        let seq = two_irises(a1, a2, d);
         for theta in [0.0f64, 0.5, 1.0, 1.35, 1.45, 2.0, 5.0] {
             let object = Object::Distant { field_deg: theta, beam_diameter_mm: 30.0 };
             let pupils = Pupils::find(&seq, &object).unwrap();

@@ -330,25 +330,11 @@ fn part_label(painter: &egui::Painter, anchor: Pos2, name: &str, colour: Color32
     }
 }
 
-/// The outline of a lens of surfaces at `vertices` over the semi-diameter, as a closed polygon per element.
+/// The outline of a lens of surfaces at their vertices, on screen, as a closed polygon per element.
 fn lens_outline(f: &Frame, surfaces: &[(f64, SurfaceSpec)], semi: f64) -> Vec<Vec<Pos2>> {
-    const N: usize = 24;
-    let profile = |z: f64, s: &SurfaceSpec| -> Vec<(f64, f64)> {
-        let shape = compile::shape(s);
-        (0..=N)
-            .map(|k| {
-                let y = semi * (1.0 - 2.0 * k as f64 / N as f64);
-                (z + shape.sag_mm(y.abs()).unwrap_or(0.0), y)
-            })
-            .collect()
-    };
-    surfaces
-        .windows(2)
-        .map(|w| {
-            let mut pts: Vec<Pos2> = profile(w[0].0, &w[0].1).into_iter().map(|(z, y)| f.at(z, y)).collect();
-            pts.extend(profile(w[1].0, &w[1].1).into_iter().rev().map(|(z, y)| f.at(z, y)));
-            pts
-        })
+    lumenrail_export::rail::outline(surfaces, semi)
+        .into_iter()
+        .map(|poly| poly.into_iter().map(|(z, y)| f.at(z, y)).collect())
         .collect()
 }
 

@@ -3,7 +3,6 @@
 
 use super::{Bundle, Plane, Point, ViewRequest};
 use crate::evaluation::Evaluation;
-use crate::model::PartKind;
 use crate::report::Report;
 use lumenrail_optics::analysis::Analysis;
 use lumenrail_optics::paraxial::Object;
@@ -63,7 +62,7 @@ pub struct SpotView {
 
 /// The rail position and label of the spot and fan views' plane.
 pub(super) fn choose_plane(evaluation: &Evaluation, plane: &Plane, best: f64) -> (f64, String) {
-    let (bench, report) = (&evaluation.bench, &evaluation.report);
+    let report = &evaluation.report;
     let screen_after = |name: &str| {
         report.screens.iter().find(|s| s.part == name && s.after_last_part && s.rms_spot_um.is_some()).map(|s| s.at_mm)
     };
@@ -77,12 +76,11 @@ pub(super) fn choose_plane(evaluation: &Evaluation, plane: &Plane, best: f64) ->
         Plane::BestFocus => return (best, "best focus".into()),
         _ => {}
     }
-    for s in report.screens.iter().filter(|s| s.after_last_part) {
-        if bench.parts.iter().any(|p| p.name == s.part && matches!(p.kind, PartKind::Screen { .. })) {
-            return (s.at_mm, format!("screen \"{}\"", s.part));
-        }
+    // The report lists the screens in rail order: the first one after the last part.
+    match report.screens.iter().find(|s| s.after_last_part) {
+        Some(s) => (s.at_mm, format!("screen \"{}\"", s.part)),
+        None => (best, "best focus".into()),
     }
-    (best, "best focus".into())
 }
 
 /// The spot view at `plane_at_mm` from each point's bundle at each wavelength.
