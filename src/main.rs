@@ -62,9 +62,13 @@ enum Command {
         /// Where to write the view's data (header row with units, one row per datum).
         #[arg(long, value_name = "OUT.csv")]
         csv: Option<PathBuf>,
-        /// Where to write the view's picture.
+        /// Where to write the view's picture (with `--view rail`, the rail drawing as PNG).
         #[arg(long, value_name = "OUT.png")]
         png: Option<PathBuf>,
+        /// The rail drawing's size, `WIDTHxHEIGHT` in pixels for the PNG and in points for the SVG
+        /// (with `--view rail`; at least 480x240, at most 8000 a side).
+        #[arg(long, default_value = "1200x520", value_parser = parse_size)]
+        size: (u32, u32),
         /// The spot and fan views' plane: a screen's name, `best` (best focus) or a rail position in mm
         /// (default: the first screen after the last part, else best focus).
         #[arg(long)]
@@ -95,8 +99,8 @@ fn main() -> ExitCode {
         Some(Command::Report { file, json }) => report(&file, json),
         Some(Command::Check { file }) => check(&file),
         Some(Command::Demos { name }) => demos_cmd(name.as_deref()),
-        Some(Command::Export { file, view, svg, text, .. }) if view == "rail" => {
-            export_rail(&file, svg.as_deref(), text.as_deref())
+        Some(Command::Export { file, view, svg, png, text, size, .. }) if view == "rail" => {
+            export_rail(&file, RailOutputs { svg: svg.as_deref(), png: png.as_deref(), text: text.as_deref() }, size)
         }
         Some(Command::Export { file, view, csv, png, plane, grid, .. }) => {
             export(&file, &view, csv.as_deref(), png.as_deref(), plane.as_deref(), &grid)
@@ -146,10 +150,27 @@ fn report(path: &Path, json: bool) -> ExitCode {
     ExitCode::SUCCESS
 }
 
-/// `lumenrail export FILE --view rail --svg OUT.svg [--text OUT.txt]`: the rail drawing and the readout.
-fn export_rail(path: &Path, svg: Option<&Path>, text: Option<&Path>) -> ExitCode {
-    if svg.is_none() && text.is_none() {
-        eprintln!("lumenrail export: say where to write the rail: --svg OUT.svg and/or --text OUT.txt");
+/// `WIDTHxHEIGHT` as two whole numbers.
+fn parse_size(text: &str) -> Result<(u32, u32), String> {
+    let (w, h) =
+        text.split_once(['x', 'X', '×']).ok_or_else(|| format!("`{text}` is not WIDTHxHEIGHT, e.g. 1600x700"))?;
+    let n = |t: &str| t.trim().parse::<u32>().map_err(|_| format!("`{t}` in `{text}` is not a whole number of pixels"));
+    Ok((n(w)?, n(h)?))
+}
+
+/// Where `export --view rail` writes its files.
+struct RailOutputs<'a> {
+    svg: Option<&'a Path>,
+    png: Option<&'a Path>,
+    text: Option<&'a Path>,
+}
+
+/// `lumenrail export FILE --view rail [--svg OUT.svg] [--png OUT.png] [--text OUT.txt] [--size WxH]`: the
+/// rail drawing and the readout.
+fn export_rail(path: &Path, to: RailOutputs<'_>, (width, height): (u32, u32)) -> ExitCode {
+    let RailOutputs { svg, png, text } = to;
+    if svg.is_none() && png.is_none() && text.is_none() {
+        eprintln!("lumenrail export: say where to write the rail: --svg OUT.svg, --png OUT.png and/or --text OUT.txt");
         return ExitCode::from(2);
     }
     let Some(loaded) = load(path) else {
@@ -159,7 +180,17 @@ fn export_rail(path: &Path, svg: Option<&Path>, text: Option<&Path>) -> ExitCode
     let scene = lumenrail_export::scene::Scene::of(&evaluation);
     let mut outputs: Vec<(&Path, Vec<u8>)> = Vec::new();
     if let Some(p) = svg {
-        outputs.push((p, lumenrail_export::rail::rail_svg(&evaluation, &scene).into_bytes()));
+        let size = (f64::from(width), f64::from(height));
+        outputs.push((p, lumenrail_export::rail::rail_svg_sized(&evaluation, &scene, size).into_bytes()));
+    }
+    if let Some(p) = png {
+        match lumenrail_export::rail::rail_png(&evaluation, &scene, width, height) {
+            Ok(bytes) => outputs.push((p, bytes)),
+            Err(e) => {
+                eprintln!("lumenrail export: {e}");
+                return ExitCode::from(2);
+            }
+        }
     }
     if let Some(p) = text {
         outputs.push((p, evaluation.report.to_text().into_bytes()));

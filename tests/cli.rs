@@ -380,4 +380,14 @@ fn export_rail_writes_the_drawing_and_the_readout() {
     assert!(readout.contains("Aperture stop: Relay A"), "{readout}");
     let o = run(&["export", bench.to_str().unwrap(), "--view", "rail"]);
     assert_eq!(o.status.code(), Some(2), "no output asked for");
+    // The PNG at the size asked for, read back by the image crate's decoder.
+    let png = scratch("rail.png");
+    let args = ["export", bench.to_str().unwrap(), "--view", "rail", "--png", png.to_str().unwrap(), "--size"];
+    let o = run(&[&args[..], &["1500x640"]].concat());
+    assert!(o.status.success(), "{}", stderr(&o));
+    let picture = image::open(&png).unwrap();
+    assert_eq!((picture.width(), picture.height()), (1500, 640));
+    let o = run(&[&args[..], &["wide"]].concat());
+    assert_eq!(o.status.code(), Some(2), "a size that is not WxH");
+    assert!(stderr(&o).contains("WIDTHxHEIGHT"), "{}", stderr(&o));
 }

@@ -15,6 +15,10 @@ use svg::node::element::{Group, Line, Polygon, Polyline, Rectangle as Rect, Text
 /// The drawing's size in px: width and height.
 pub const RAIL_SVG_SIZE: (f64, f64) = (1200.0, 520.0);
 
+/// The smallest canvas the rail drawing is laid out for, points: below it the title, the scale and the
+/// labels no longer fit.
+pub const RAIL_MIN_SIZE: (f64, f64) = (480.0, 240.0);
+
 const MARGIN: f64 = 40.0;
 const TITLE_BAND: f64 = 40.0;
 const SCALE_BAND: f64 = 60.0;
@@ -52,10 +56,16 @@ fn text(x: f64, y: f64, size: f64, anchor: &str, content: &str) -> Text {
         .set("text-anchor", anchor)
 }
 
-/// The rail drawing of `evaluation` as an SVG document's text.
+/// The rail drawing of `evaluation` as an SVG document's text, [`RAIL_SVG_SIZE`] points large.
 pub fn rail_svg(evaluation: &Evaluation, scene: &Scene) -> String {
+    rail_svg_sized(evaluation, scene, RAIL_SVG_SIZE)
+}
+
+/// The rail drawing laid out for a `(width, height)` canvas in points (each at least
+/// [`RAIL_MIN_SIZE`]; smaller sizes are raised to it).
+pub fn rail_svg_sized(evaluation: &Evaluation, scene: &Scene, size: (f64, f64)) -> String {
     let bench = &evaluation.bench;
-    let (width, height) = RAIL_SVG_SIZE;
+    let (width, height) = (size.0.max(RAIL_MIN_SIZE.0), size.1.max(RAIL_MIN_SIZE.1));
     let rail = bench.rail_length_mm.max(1.0);
     let px_per_mm = (width - 2.0 * MARGIN) / rail;
     // Heights: the tallest part, the object and the drawn bundle fill 84% of the optical band's half.
@@ -282,4 +292,44 @@ pub fn outline(surfaces: &[(f64, SurfaceSpec)], semi: f64) -> Vec<Vec<(f64, f64)
             pts
         })
         .collect()
+}
+
+/// Why a rail picture could not be made.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub struct PictureError(pub String);
+
+impl std::fmt::Display for PictureError {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        f.write_str(&self.0)
+    }
+}
+
+impl std::error::Error for PictureError {}
+
+/// The rail drawing as a PNG file's bytes, `width` × `height` pixels: the SVG of [`rail_svg_sized`] laid
+/// out for that size and rasterised (resvg) with the font the workbench bundles, so the PNG and the SVG
+/// are one drawing and need no font of the computer's. Sizes below [`RAIL_MIN_SIZE`] are raised to it;
+/// at most 8000 pixels a side.
+pub fn rail_png(evaluation: &Evaluation, scene: &Scene, width: u32, height: u32) -> Result<Vec<u8>, PictureError> {
+    if width > 8000 || height > 8000 {
+        return Err(PictureError(format!(
+            "{width} × {height} pixels is larger than a rail picture is made (at most 8000 a side)"
+        )));
+    }
+    let (w, h) = (f64::from(width).max(RAIL_MIN_SIZE.0), f64::from(height).max(RAIL_MIN_SIZE.1));
+    let svg = rail_svg_sized(evaluation, scene, (w, h));
+    let mut options = resvg::usvg::Options::default();
+    let fonts = options.fontdb_mut();
+    fonts.load_font_data(epaint_default_fonts::UBUNTU_LIGHT.to_vec());
+    let family = fonts.faces().next().and_then(|f| f.families.first()).map(|(name, _)| name.clone());
+    if let Some(family) = family {
+        fonts.set_sans_serif_family(family);
+    }
+    let tree = resvg::usvg::Tree::from_str(&svg, &options)
+        .map_err(|e| PictureError(format!("the rail drawing could not be read back for the picture: {e}")))?;
+    let (pw, ph) = (w.round() as u32, h.round() as u32);
+    let mut pixmap = resvg::tiny_skia::Pixmap::new(pw, ph)
+        .ok_or_else(|| PictureError(format!("cannot make a {pw} × {ph} picture")))?;
+    resvg::render(&tree, resvg::tiny_skia::Transform::identity(), &mut pixmap.as_mut());
+    pixmap.encode_png().map_err(|e| PictureError(format!("cannot encode the picture as PNG: {e}")))
 }

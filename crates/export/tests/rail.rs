@@ -56,3 +56,44 @@ fn every_demo_draws_to_scale_and_reads_back() {
         }
     }
 }
+
+/// The rail drawing as PNG, at a size the user chose, read back by the `image` crate's PNG decoder: the
+/// picture has that size, the title is drawn in the top band, and the rail's scale line runs across the
+/// picture from the datum to the rail's end, where the SVG laid out for the same size puts it.
+#[test]
+fn the_rail_png_is_the_svg_drawing_at_the_chosen_size() {
+    let d = lumenrail_bench::demos::find("unit-relay").unwrap();
+    let bench = lumenrail_bench::file::parse(d.name, d.text).unwrap().bench;
+    let evaluation = Evaluation::of(&bench);
+    let scene = Scene::of(&evaluation);
+    for (w, h) in [(1600u32, 700u32), (900, 400)] {
+        let bytes = lumenrail_export::rail::rail_png(&evaluation, &scene, w, h).unwrap();
+        let png = image::load_from_memory_with_format(&bytes, image::ImageFormat::Png).unwrap().to_rgba8();
+        assert_eq!(png.dimensions(), (w, h));
+        let dark = |x: u32, y: u32| {
+            let p = png.get_pixel(x, y);
+            p[3] > 200 && u32::from(p[0]) + u32::from(p[1]) + u32::from(p[2]) < 200
+        };
+        // The title: dark pixels in the top band, left of the middle.
+        assert!((0..40).any(|y| (40..w / 2).any(|x| dark(x, y))), "{w}×{h}: no title");
+        // The scale line (2 px wide, black) at the SVG's own y, from x(0) to x(rail).
+        let svg = lumenrail_export::rail::rail_svg_sized(&evaluation, &scene, (f64::from(w), f64::from(h)));
+        let doc = roxmltree::Document::parse(&svg).unwrap();
+        let line = doc
+            .descendants()
+            .find(|n| n.attribute("id") == Some("scale"))
+            .and_then(|g| g.children().find(|n| n.tag_name().name() == "line"))
+            .unwrap();
+        let num = |k: &str| line.attribute(k).unwrap().parse::<f64>().unwrap();
+        let (x1, x2, y) = (num("x1"), num("x2"), num("y1"));
+        let row = y.floor() as u32;
+        let run: Vec<u32> = (0..w).filter(|&x| dark(x, row) || dark(x, row.saturating_sub(1))).collect();
+        let (first, last) = (*run.first().unwrap(), *run.last().unwrap());
+        // Within two pixels of the SVG's ends (antialiasing of the line's ends and of the end ticks).
+        assert!((f64::from(first) - x1).abs() <= 2.0, "{w}×{h}: line starts at {first}, svg {x1}");
+        assert!((f64::from(last) - x2).abs() <= 2.0, "{w}×{h}: line ends at {last}, svg {x2}");
+        assert!(run.len() as f64 >= 0.95 * (x2 - x1), "{w}×{h}: the line has gaps");
+    }
+    // Too large a picture is refused in words, not attempted.
+    assert!(lumenrail_export::rail::rail_png(&evaluation, &scene, 9000, 500).is_err());
+}

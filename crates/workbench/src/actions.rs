@@ -149,7 +149,7 @@ pub const ACTIONS: &[ActionInfo] = &[
     entry(Action::SaveAsByPath, Menu::File, "Save as by path…", &[]),
     entry(Action::ExportCsvByPath, Menu::File, "Export view CSV by path…", &[]),
     entry(Action::ExportPngByPath, Menu::File, "Export view PNG by path…", &[]),
-    entry(Action::ExportDrawingByPath, Menu::File, "Export drawing SVG by path…", &[]),
+    entry(Action::ExportDrawingByPath, Menu::File, "Export drawing (SVG, PNG or text) by path…", &[]),
     entry(Action::Undo, Menu::Edit, "Undo", &[Shortcut::ctrl(Key::Z)]),
     entry(Action::Redo, Menu::Edit, "Redo", &[Shortcut::ctrl_shift(Key::Z), Shortcut::ctrl(Key::Y)]),
     entry(Action::DuplicatePart, Menu::Edit, "Duplicate part", &[]),

@@ -6,12 +6,38 @@ use crate::{PathPrompt, Workbench};
 use std::path::PathBuf;
 
 impl Workbench {
-    /// Writes the rail drawing as SVG to `path` (atomically); the status line says what happened.
+    /// Writes the rail drawing to `path` (atomically), laid out for [`Self::drawing_size`]: as PNG when
+    /// the name ends in `.png`, the readout's figures as text when it ends in `.txt`, else as SVG. The
+    /// status line says what happened.
     pub fn export_drawing(&mut self, path: &std::path::Path) -> bool {
-        let svg = lumenrail_export::rail::rail_svg(&self.evaluation, &self.scene);
-        match lumenrail_bench::file::write_atomic(path, svg.as_bytes()) {
+        let Some((w, h)) = drawing_size(&self.drawing_size) else {
+            self.status = format!(
+                "the size `{}` is not WIDTHxHEIGHT in whole numbers from 480x240 to 8000x8000, e.g. 1600x700",
+                self.drawing_size
+            );
+            return false;
+        };
+        let ext = path.extension().and_then(|e| e.to_str()).map(str::to_ascii_lowercase);
+        let (what, bytes) = match ext.as_deref() {
+            Some("png") => match lumenrail_export::rail::rail_png(&self.evaluation, &self.scene, w, h) {
+                Ok(bytes) => ("the rail drawing", bytes),
+                Err(e) => {
+                    self.status = e.to_string();
+                    return false;
+                }
+            },
+            Some("txt") => ("the readout", self.evaluation.report.to_text().into_bytes()),
+            _ => {
+                let size = (f64::from(w), f64::from(h));
+                (
+                    "the rail drawing",
+                    lumenrail_export::rail::rail_svg_sized(&self.evaluation, &self.scene, size).into_bytes(),
+                )
+            }
+        };
+        match lumenrail_bench::file::write_atomic(path, &bytes) {
             Ok(()) => {
-                self.status = format!("wrote the rail drawing to {}", path.display());
+                self.status = format!("wrote {what} to {}", path.display());
                 true
             }
             Err(e) => {
@@ -49,13 +75,27 @@ impl Workbench {
                 PathPrompt::SaveAs => ("Save bench as", "Path of the .bench.ron file:", "Save"),
                 PathPrompt::Export(_, true) => ("Export view", "Path of the PNG picture:", "Export"),
                 PathPrompt::Export(_, false) => ("Export view", "Path of the CSV table:", "Export"),
-                PathPrompt::Drawing => ("Export drawing", "Path of the SVG drawing:", "Export"),
+                PathPrompt::Drawing => {
+                    ("Export drawing", "Path of the drawing (.svg or .png; .txt for the readout):", "Export")
+                }
             };
             let mut go = false;
+            let drawing = *kind == PathPrompt::Drawing;
+            let size = &mut self.drawing_size;
             egui::Window::new(title).collapsible(false).show(ctx, |ui| {
                 let label = ui.label(what);
                 let r = ui.text_edit_singleline(text).labelled_by(label.id);
                 go = r.lost_focus() && ui.input(|i| i.key_pressed(egui::Key::Enter));
+                if drawing {
+                    ui.horizontal(|ui| {
+                        let l = ui.label("Size (width x height, pixels for PNG):");
+                        let field = ui.add(egui::TextEdit::singleline(size).desired_width(110.0)).labelled_by(l.id);
+                        if drawing_size(size).is_none() {
+                            field.on_hover_text("WIDTHxHEIGHT, each 480–8000 wide and 240–8000 high, e.g. 1600x700");
+                            ui.colored_label(ui.visuals().warn_fg_color, "e.g. 1600x700 (from 480x240)");
+                        }
+                    });
+                }
                 ui.horizontal(|ui| {
                     go |= ui.button(verb).clicked();
                     close |= ui.button("Cancel").clicked();
@@ -84,6 +124,14 @@ impl Workbench {
             self.path_prompt = None;
         }
     }
+}
+
+/// A drawing size typed as `WIDTHxHEIGHT`, within what the rail drawing is laid out for.
+fn drawing_size(text: &str) -> Option<(u32, u32)> {
+    let (w, h) = text.split_once(['x', 'X', '×'])?;
+    let (w, h) = (w.trim().parse::<u32>().ok()?, h.trim().parse::<u32>().ok()?);
+    let (min_w, min_h) = lumenrail_export::rail::RAIL_MIN_SIZE;
+    (f64::from(w) >= min_w && f64::from(h) >= min_h && w <= 8000 && h <= 8000).then_some((w, h))
 }
 
 /// The safety cautions shown in the Help menu.

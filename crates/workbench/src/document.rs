@@ -104,6 +104,7 @@ impl Workbench {
             show_safety: false,
             show_keys: false,
             path_prompt: None,
+            drawing_size: "1200x520".into(),
             revision: 0,
             recent: Vec::new(),
             views: plots::ViewsPanel::default(),

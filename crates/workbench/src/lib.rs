@@ -60,6 +60,8 @@ pub struct Workbench {
     pub(crate) show_safety: bool,
     pub(crate) show_keys: bool,
     pub(crate) path_prompt: Option<(PathPrompt, String)>,
+    /// The size the drawing export lays the rail out for, `WIDTHxHEIGHT` (pixels for PNG, points for SVG).
+    pub(crate) drawing_size: String,
     /// Counts changes to the bench, so that a frame can tell whether it changed while being drawn.
     revision: u64,
     /// Recently opened or saved files, newest first (kept by the window's settings).

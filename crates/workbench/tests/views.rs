@@ -186,24 +186,55 @@ fn at_1280_by_800_every_panel_stays_in_its_area() {
     }
 }
 
-/// File, Export drawing SVG by path writes the rail drawing the workbench shows.
-#[test]
-fn the_rail_drawing_exports_as_svg_from_the_file_menu() {
-    let path = std::env::temp_dir().join(format!("lumenrail-drawing-{}.svg", std::process::id()));
-    let mut h = harness("unit-relay");
+/// Types `path` (and a size) into File, Export drawing and presses Enter.
+fn export_drawing(h: &mut egui_kittest::Harness<'_, Workbench>, path: &std::path::Path, size: Option<&str>) {
     h.get_by_label("File").click();
     h.run();
-    h.get_by_label("Export drawing SVG by path…").click();
+    h.get_by_label("Export drawing (SVG, PNG or text) by path…").click();
     h.run();
-    h.get_by_label("Path of the SVG drawing:").focus();
+    if let Some(size) = size {
+        let field = "Size (width x height, pixels for PNG):";
+        h.get_by_label(field).focus();
+        h.run();
+        h.key_press_modifiers(egui::Modifiers::COMMAND, Key::A);
+        h.run();
+        h.get_by_label(field).type_text(size);
+        h.run();
+    }
+    let field = "Path of the drawing (.svg or .png; .txt for the readout):";
+    h.get_by_label(field).focus();
     h.run();
     h.key_press_modifiers(egui::Modifiers::COMMAND, Key::A);
     h.run();
-    h.get_by_label("Path of the SVG drawing:").type_text(path.to_str().unwrap());
+    h.get_by_label(field).type_text(path.to_str().unwrap());
     h.run();
     h.key_press(Key::Enter);
     h.run();
-    let svg = std::fs::read_to_string(&path).unwrap_or_else(|e| panic!("{e}: {}", h.state().status));
+}
+
+/// File, Export drawing writes the rail drawing the workbench shows: SVG, PNG at the size typed, and the
+/// readout as text.
+#[test]
+fn the_rail_drawing_exports_as_svg_png_and_text_from_the_file_menu() {
+    let dir = std::env::temp_dir().join(format!("lumenrail-drawing-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).unwrap();
+    let mut h = harness("unit-relay");
+    let svg_path = dir.join("rail.svg");
+    export_drawing(&mut h, &svg_path, None);
+    let svg = std::fs::read_to_string(&svg_path).unwrap_or_else(|e| panic!("{e}: {}", h.state().status));
     assert!(svg.contains("Relay B") && svg.contains("Camera plane"));
-    let _ = std::fs::remove_file(&path);
+    let png_path = dir.join("rail.png");
+    export_drawing(&mut h, &png_path, Some("1000x450"));
+    let png = image::open(&png_path).unwrap_or_else(|e| panic!("{e}: {}", h.state().status));
+    assert_eq!((png.width(), png.height()), (1000, 450));
+    let txt_path = dir.join("readout.txt");
+    export_drawing(&mut h, &txt_path, None);
+    let text = std::fs::read_to_string(&txt_path).unwrap();
+    assert_eq!(text, h.state().evaluation.report.to_text());
+    // A size the drawing is not laid out for is refused in words, and nothing is written.
+    let small = dir.join("small.png");
+    export_drawing(&mut h, &small, Some("100x50"));
+    assert!(!small.exists());
+    assert!(h.state().status.contains("WIDTHxHEIGHT"), "{}", h.state().status);
+    let _ = std::fs::remove_dir_all(&dir);
 }
