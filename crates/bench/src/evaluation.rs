@@ -166,6 +166,7 @@ fn trace(bench: &Bench, screens: &[usize]) -> Result<Traced, String> {
         planes_mm,
         partial_planes,
         vignetting: true,
+        weights: bench.wavelength_weights.clone(),
     };
     count_analysis();
     let analysis = analyse(&compiled.system, &request).map_err(|e| e.to_string())?;

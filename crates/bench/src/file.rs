@@ -335,6 +335,9 @@ pub fn to_text(bench: &Bench) -> String {
     let _ = writeln!(t, "    rail_length_mm: {},", one_line(&bench.rail_length_mm));
     let _ = writeln!(t, "    wavelengths_nm: {},", one_line(&bench.wavelengths_nm));
     let _ = writeln!(t, "    primary_wavelength: {},", bench.primary_wavelength);
+    if !bench.wavelength_weights.is_empty() {
+        let _ = writeln!(t, "    wavelength_weights: {},", one_line(&bench.wavelength_weights));
+    }
     let _ = writeln!(t, "    object: {},", one_line(&bench.object));
     t.push_str("    parts: [\n");
     for i in bench.rail_order() {

@@ -20,6 +20,10 @@ pub struct Bench {
     pub wavelengths_nm: Vec<f64>,
     /// Index into `wavelengths_nm` of the wavelength that spots and first-order figures use.
     pub primary_wavelength: usize,
+    /// Relative weights of the wavelengths in the white-light figures, one per wavelength (a source's
+    /// spectrum times the detector's response, say); empty (and left out of the file) for equal weights.
+    #[serde(default, skip_serializing_if = "Vec::is_empty")]
+    pub wavelength_weights: Vec<f64>,
     /// Where the light comes from.
     pub object: ObjectSpec,
     /// The parts, in any order (the rail position decides).
@@ -227,6 +231,18 @@ impl Part {
 }
 
 impl Bench {
+    /// Each wavelength's share of the white light: the weights scaled to sum to 1, or equal shares when
+    /// the bench gives no weights (or weights that do not fit its wavelengths).
+    pub fn shares(&self) -> Vec<f64> {
+        let n = self.wavelengths_nm.len();
+        let total: f64 = self.wavelength_weights.iter().sum();
+        if self.wavelength_weights.len() == n && total > 0.0 && total.is_finite() {
+            self.wavelength_weights.iter().map(|w| w / total).collect()
+        } else {
+            vec![1.0 / n.max(1) as f64; n]
+        }
+    }
+
     /// The primary wavelength, nm, if the index is valid.
     pub fn primary_wavelength_nm(&self) -> Option<f64> {
         self.wavelengths_nm.get(self.primary_wavelength).copied()

@@ -137,7 +137,7 @@ pub struct Aberrations {
     /// Seidel sums S_I..S_V, C_I, C_II (mm; Welford).
     pub seidel: Option<SeidelTerms>,
     /// Best focus for white light: the plane of least on-axis RMS radius over every wavelength together,
-    /// each weighted equally.
+    /// each by its weight (`colour[k].weight`).
     pub white_light_focus_at_mm: Option<f64>,
     /// The white-light RMS radius there, µm.
     pub white_light_rms_spot_um: Option<f64>,
@@ -161,6 +161,8 @@ pub struct ColourFocus {
     pub wavelength_nm: f64,
     /// Final image position (null: at infinity).
     pub image_at_mm: Option<f64>,
+    /// The wavelength's share of the white light (the bench's weights, summing to 1; equal without them).
+    pub weight: f64,
 }
 
 /// What a warning is about.
@@ -394,7 +396,8 @@ impl Report {
         self.colour = a
             .colour
             .iter()
-            .map(|c| ColourFocus { wavelength_nm: c.wavelength_nm, image_at_mm: c.image_at_mm })
+            .zip(bench.shares())
+            .map(|(c, weight)| ColourFocus { wavelength_nm: c.wavelength_nm, image_at_mm: c.image_at_mm, weight })
             .collect();
         match a.pupils() {
             Ok(p) => {
@@ -676,9 +679,16 @@ impl Report {
         if let (Some(z), Some(r)) = (ab.white_light_focus_at_mm, ab.white_light_rms_spot_um)
             && self.colour.len() > 1
         {
+            let first = self.colour.first().map_or(0.0, |c| c.weight);
+            let weights = if self.colour.iter().all(|c| (c.weight - first).abs() < 1e-12) {
+                "equal weights".to_string()
+            } else {
+                let shares: Vec<String> = self.colour.iter().map(|c| format!("{:.0}%", 100.0 * c.weight)).collect();
+                format!("weighted {}", shares.join(" : "))
+            };
             let _ = writeln!(
                 t,
-                "  best focus for white light (every wavelength, equal weights) {} mm, RMS {r:.2} µm",
+                "  best focus for white light (every wavelength, {weights}) {} mm, RMS {r:.2} µm",
                 fixed(z, 3)
             );
         }

@@ -176,6 +176,25 @@ pub fn validate(bench: &Bench) -> Vec<Finding> {
             ),
         );
     }
+    let weights = &bench.wavelength_weights;
+    if !weights.is_empty() {
+        if weights.len() != bench.wavelengths_nm.len() {
+            c.error(
+                None,
+                "wavelength_weights",
+                format!(
+                    "{} weights for {} wavelengths: give one weight per wavelength, or none for equal weights",
+                    weights.len(),
+                    bench.wavelengths_nm.len()
+                ),
+            );
+        }
+        if let Some(w) = weights.iter().find(|w| !(w.is_finite() && **w >= 0.0)) {
+            c.error(None, "wavelength_weights", format!("the weight {w} must be a number of at least 0"));
+        } else if weights.iter().all(|w| *w == 0.0) {
+            c.error(None, "wavelength_weights", "the weights are all 0; at least one must be above 0".into());
+        }
+    }
     match bench.object {
         ObjectSpec::Point { at_mm, height_mm } => {
             if !at_mm.is_finite() || rail_ok && !(0.0..=bench.rail_length_mm).contains(&at_mm) {

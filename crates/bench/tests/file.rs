@@ -279,6 +279,7 @@ proptest! {
             rail_length_mm: 1000.0,
             wavelengths_nm: vec![486.1327, 587.5618],
             primary_wavelength: 1,
+            wavelength_weights: if distant { vec![1.0, 2.5] } else { Vec::new() },
             object: if distant { ObjectSpec::Distant { field_deg: 1.5, beam_diameter_mm: 8.0 } } else { ObjectSpec::Point { at_mm: 0.0, height_mm: -2.5 } },
             parts: parts.into_iter().map(|(name, at_mm, kind, carrier_mm)| Part { name, at_mm, kind, carrier_mm }).collect(),
         };
@@ -287,5 +288,29 @@ proptest! {
         let mut sorted = bench.clone();
         sorted.parts = bench.rail_order().into_iter().map(|i| bench.parts[i].clone()).collect();
         prop_assert_eq!(back, sorted);
+    }
+}
+
+/// Wavelength weights: optional (a format-1 file without them loads as before and saves without them);
+/// given, they round-trip, and a wrong count or a negative weight is placed at the field.
+#[test]
+fn wavelength_weights_are_optional_checked_and_kept() {
+    let plain = parse("f", one_lens_screen()).unwrap().bench;
+    assert!(plain.wavelength_weights.is_empty());
+    assert!(!to_text(&plain).contains("wavelength_weights"));
+    let weighted = one_lens_screen()
+        .replace("primary_wavelength: 1,", "primary_wavelength: 1,\n    wavelength_weights: [1.0, 2.0, 1.0],");
+    let b = parse("f", &weighted).unwrap().bench;
+    assert_eq!(b.wavelength_weights, vec![1.0, 2.0, 1.0]);
+    assert_eq!(parse("f", &to_text(&b)).unwrap().bench, b);
+    for (bad, words) in [
+        ("[1.0, 2.0]", "2 weights for 3 wavelengths"),
+        ("[1.0, -2.0, 1.0]", "at least 0"),
+        ("[0.0, 0.0, 0.0]", "all 0"),
+    ] {
+        let text = weighted.replace("[1.0, 2.0, 1.0]", bad);
+        let e = parse("f", &text).unwrap_err();
+        assert_eq!(place_of(&e), (8, 5), "{e}");
+        assert!(e.diagnostics[0].message.contains(words), "{e}");
     }
 }

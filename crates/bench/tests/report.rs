@@ -183,3 +183,56 @@ fn the_white_light_focus_is_the_least_polychromatic_spot() {
     let w = single.report.aberrations.white_light_focus_at_mm.unwrap();
     assert!((w - s.best_focus_at_mm.unwrap()).abs() < 1e-9, "{w} vs {:?}", s.best_focus_at_mm);
 }
+
+/// The wavelengths' weights: polychromatic RMS² is the weighted mean of each wavelength's RMS² about one
+/// plane, so all the weight on one line puts the white-light focus at that line's own least-RMS plane
+/// (the same quadrature rings), and weights 1 : 2 : 1 give the minimum of the weighted quadratic, checked
+/// against each wavelength's own spot figures. The report names the shares.
+#[test]
+fn the_white_light_focus_follows_the_wavelengths_weights() {
+    let base = parse("t", lumenrail_bench::demos::find("colour-singlet").unwrap().text).unwrap().bench;
+    for k in 0..3 {
+        let mut b = base.clone();
+        b.wavelength_weights = (0..3).map(|j| if j == k { 1.0 } else { 0.0 }).collect();
+        let e = lumenrail_bench::evaluation::Evaluation::of(&b);
+        let w = e.report.aberrations.white_light_focus_at_mm.unwrap();
+        // The line's own best focus: its moments' minimum, from its own axial spot on the same rings.
+        let a = e.analysis().unwrap();
+        let rings = a.spot.as_ref().unwrap().as_ref().unwrap().rings;
+        let wl = &a.wavelengths[k];
+        let spot = lumenrail_optics::spot::AxialSpot::trace(
+            &wl.seq,
+            e.compiled().unwrap().object,
+            wl.pupils.as_ref().unwrap(),
+            rings,
+        )
+        .unwrap();
+        let (own, _) = lumenrail_optics::spot::RadialMoments::of(&spot, w).best().unwrap();
+        assert!((w - own).abs() < 1e-9, "line {k}: white {w} vs own {own}");
+        assert!((e.report.colour[k].weight - 1.0).abs() < 1e-15);
+    }
+    let mut b = base.clone();
+    b.wavelength_weights = vec![1.0, 2.0, 1.0];
+    let e = lumenrail_bench::evaluation::Evaluation::of(&b);
+    let a = e.analysis().unwrap();
+    let zw = e.report.aberrations.white_light_focus_at_mm.unwrap();
+    let poly = |z: f64| -> f64 {
+        let ms: f64 = a
+            .wavelengths
+            .iter()
+            .zip([0.25, 0.5, 0.25])
+            .map(|(w, share)| {
+                let p = w.pupils.as_ref().unwrap();
+                let s = lumenrail_optics::spot::spot_figures(&w.seq, e.compiled().unwrap().object, p, &[z]).unwrap();
+                share * s.planes[0].rms_mm.powi(2)
+            })
+            .sum();
+        ms.sqrt()
+    };
+    let at = poly(zw);
+    assert!((at * 1e3 - e.report.aberrations.white_light_rms_spot_um.unwrap()).abs() < 1e-6 * at * 1e3);
+    assert!(poly(zw - 0.5) > at && poly(zw + 0.5) > at);
+    let equal = lumenrail_bench::evaluation::Evaluation::of(&base).report.aberrations.white_light_focus_at_mm.unwrap();
+    assert!((zw - equal).abs() > 1e-3, "the weights move the focus: {zw} vs {equal}");
+    assert!(e.report.to_text().contains("weighted 25% : 50% : 25%"), "{}", e.report.to_text());
+}

@@ -134,6 +134,7 @@ fn whole_evaluation(c: &mut Criterion) {
         planes_mm: vec![400.0],
         partial_planes: Vec::new(),
         vignetting: false,
+        weights: Vec::new(),
     };
     c.bench_function("first_order_stop_spot_12_surfaces", |b| {
         b.iter(|| analyse(black_box(&system), black_box(&request)).unwrap())

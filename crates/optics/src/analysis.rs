@@ -35,6 +35,9 @@ pub struct Request {
     pub wavelengths_nm: Vec<f64>,
     /// Index into `wavelengths_nm` of the primary wavelength.
     pub primary: usize,
+    /// Relative weights of the wavelengths in the white-light figures (one per wavelength, not all zero);
+    /// empty for equal weights.
+    pub weights: Vec<f64>,
     /// Planes beyond the last surface (rail positions, mm) at which to give spot figures, such as screens.
     pub planes_mm: Vec<f64>,
     /// Planes crossed before the last surface, at which to give the figures of the light that reaches them.
@@ -135,8 +138,8 @@ pub struct FieldFigures {
 }
 
 /// The best focus for white light: the plane of least RMS spot radius of the on-axis point over every
-/// wavelength together, each weighted equally (the bench lists no weights), about the axis where the
-/// on-axis centroid lies.
+/// wavelength together, each by its weight ([`Request::weights`]; equal when the bench gives none), about
+/// the axis where the on-axis centroid lies.
 #[derive(Debug, Clone, Copy, PartialEq)]
 #[cfg_attr(feature = "serde", derive(serde::Serialize))]
 pub struct WhiteFocus {
@@ -375,7 +378,8 @@ pub fn analyse_wavelengths(wavelengths: Vec<Wavelength>, request: &Request) -> R
         s
     }));
     if final_real && let Some(Ok(s)) = &analysis.spot {
-        // Equal weights: the mean of each wavelength's moments about one plane (the primary's are known).
+        // The weighted mean of each wavelength's moments about one plane (the primary's are known): each
+        // wavelength's moments are already means over its own rays, so its weight is its share of the light.
         let z_ref = s.moments.z_ref;
         let moments: Vec<RadialMoments> = analysis
             .wavelengths
@@ -389,14 +393,13 @@ pub fn analyse_wavelengths(wavelengths: Vec<Wavelength>, request: &Request) -> R
                 Some(RadialMoments::of(&spot, z_ref))
             })
             .collect();
-        if moments.len() == analysis.wavelengths.len() {
-            let n = moments.len() as f64;
-            let mean = RadialMoments {
-                z_ref,
-                a: moments.iter().map(|m| m.a).sum::<f64>() / n,
-                b: moments.iter().map(|m| m.b).sum::<f64>() / n,
-                c: moments.iter().map(|m| m.c).sum::<f64>() / n,
-            };
+        let weights: Vec<f64> =
+            if request.weights.len() == moments.len() { request.weights.clone() } else { vec![1.0; moments.len()] };
+        let total: f64 = weights.iter().sum();
+        if moments.len() == analysis.wavelengths.len() && total > 0.0 && total.is_finite() {
+            let mean_of =
+                |f: fn(&RadialMoments) -> f64| moments.iter().zip(&weights).map(|(m, w)| w * f(m)).sum::<f64>() / total;
+            let mean = RadialMoments { z_ref, a: mean_of(|m| m.a), b: mean_of(|m| m.b), c: mean_of(|m| m.c) };
             analysis.white_light_focus = mean.best().map(|(at_mm, rms_mm)| WhiteFocus { at_mm, rms_mm });
         }
     }

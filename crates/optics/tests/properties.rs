@@ -86,6 +86,7 @@ proptest! {
             planes_mm: vec![700.0],
             partial_planes: Vec::new(),
             vignetting: true,
+            weights: Vec::new(),
         };
         let a = analyse(&system, &request).unwrap();
         if let Some(f) = a.first_order {

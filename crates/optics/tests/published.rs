@@ -337,6 +337,7 @@ fn ideal_lens_spot_is_a_point() {
         planes_mm: vec![],
         partial_planes: Vec::new(),
         vignetting: true,
+        weights: Vec::new(),
     };
     let a = analyse(&system, &request).unwrap();
     let spot = a.spot.clone().unwrap().unwrap();
@@ -367,6 +368,7 @@ fn rms_of_third_order_spherical_aberration() {
         planes_mm: vec![0.0],
         partial_planes: Vec::new(),
         vignetting: false,
+        weights: Vec::new(),
     };
     let a = analyse(&system, &request).unwrap();
     let spot = a.spot.clone().unwrap().unwrap();

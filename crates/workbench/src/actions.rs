@@ -156,6 +156,7 @@ pub const ACTIONS: &[ActionInfo] = &[
     entry(Action::RemovePart, Menu::Edit, "Remove part", &[Shortcut::plain(Key::Delete)]),
     entry(Action::ClearSelection, Menu::Edit, "Clear selection", &[Shortcut::plain(Key::Escape)]),
     entry(Action::NextPart, Menu::Edit, "Select the next part along the rail", &[Shortcut::plain(Key::Tab)]),
+    entry(Action::BenchSettings, Menu::Edit, "Bench settings…", &[]),
     entry(
         Action::NudgeBack,
         Menu::None,

@@ -47,6 +47,8 @@ pub struct BenchSettings {
     pub wavelengths_nm: Vec<f64>,
     /// Index of the primary wavelength.
     pub primary_wavelength: usize,
+    /// The wavelengths' relative weights (empty: equal).
+    pub wavelength_weights: Vec<f64>,
 }
 
 impl BenchSettings {
@@ -58,6 +60,7 @@ impl BenchSettings {
             object: bench.object,
             wavelengths_nm: bench.wavelengths_nm.clone(),
             primary_wavelength: bench.primary_wavelength,
+            wavelength_weights: bench.wavelength_weights.clone(),
         }
     }
 
@@ -69,6 +72,7 @@ impl BenchSettings {
             object: self.object,
             wavelengths_nm: self.wavelengths_nm.clone(),
             primary_wavelength: self.primary_wavelength,
+            wavelength_weights: self.wavelength_weights.clone(),
             ..bench.clone()
         }
     }

@@ -63,6 +63,7 @@ impl Workbench {
                     rail_length_mm: 1000.0,
                     wavelengths_nm: vec![486.1327, 587.5618, 656.2725],
                     primary_wavelength: 1,
+                    wavelength_weights: Vec::new(),
                     object: ObjectSpec::Point { at_mm: 0.0, height_mm: 5.0 },
                     parts: Vec::new(),
                 };

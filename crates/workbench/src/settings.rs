@@ -29,11 +29,35 @@ struct Texts {
     second: String,
     wavelengths: String,
     primary: String,
+    /// The wavelengths' weights, comma-separated; empty for equal weights.
+    weights: String,
 }
 
-/// Named sets of wavelengths: (name, wavelengths nm, primary index). Fraunhofer lines F, d, C and d alone.
-pub const WAVELENGTH_SETS: [(&str, &[f64], usize); 2] =
-    [("visible: F, d, C lines", &[486.1327, 587.5618, 656.2725], 1), ("single line: d (587.6 nm)", &[587.5618], 0)];
+/// A named set of wavelengths.
+pub struct WavelengthSet {
+    /// The set's name on its button.
+    pub name: &'static str,
+    /// Wavelengths, nm.
+    pub nm: &'static [f64],
+    /// Index of the primary wavelength.
+    pub primary: usize,
+    /// Relative weights (empty: equal).
+    pub weights: &'static [f64],
+}
+
+/// Named sets of wavelengths. The Fraunhofer lines F, d and C (wavelengths as ISO 7944 tabulates them)
+/// equally weighted; the same lines weighted 1 : 2 : 1 (the middle of the visible band counted twice, a
+/// common practice for visual work, not a standard); and the d line alone.
+pub const WAVELENGTH_SETS: [WavelengthSet; 3] = [
+    WavelengthSet { name: "visible: F, d, C lines", nm: &[486.1327, 587.5618, 656.2725], primary: 1, weights: &[] },
+    WavelengthSet {
+        name: "visible, weighted 1 : 2 : 1",
+        nm: &[486.1327, 587.5618, 656.2725],
+        primary: 1,
+        weights: &[1.0, 2.0, 1.0],
+    },
+    WavelengthSet { name: "single line: d (587.6 nm)", nm: &[587.5618], primary: 0, weights: &[] },
+];
 
 fn list(v: &[f64]) -> String {
     v.iter().map(|w| format!("{w}")).collect::<Vec<_>>().join(", ")
@@ -53,6 +77,7 @@ impl Texts {
             second: format!("{second}"),
             wavelengths: list(&s.wavelengths_nm),
             primary: s.wavelengths_nm.get(s.primary_wavelength).map_or_else(String::new, |w| format!("{w}")),
+            weights: list(&s.wavelength_weights),
         }
     }
 
@@ -83,12 +108,26 @@ impl Texts {
             .iter()
             .position(|w| (w - primary).abs() < 1e-9)
             .ok_or_else(|| format!("the primary wavelength {primary} nm is not one of the wavelengths"))?;
+        let wavelength_weights: Vec<f64> = self
+            .weights
+            .split([',', ' ', ':'])
+            .filter(|t| !t.trim().is_empty())
+            .map(|t| num(t, "weight"))
+            .collect::<Result<_, _>>()?;
+        if !wavelength_weights.is_empty() && wavelength_weights.len() != wavelengths.len() {
+            return Err(format!(
+                "{} weights for {} wavelengths: give one weight per wavelength, or none for equal weights",
+                wavelength_weights.len(),
+                wavelengths.len()
+            ));
+        }
         Ok(BenchSettings {
             title: self.title.clone(),
             rail_length_mm: rail,
             object,
             wavelengths_nm: wavelengths,
             primary_wavelength,
+            wavelength_weights,
         })
     }
 }
@@ -145,13 +184,15 @@ impl Workbench {
                 }
                 row(ui, "wavelengths (nm, comma-separated)", &mut texts.wavelengths);
                 row(ui, "primary wavelength (nm)", &mut texts.primary);
+                row(ui, "weights (one per wavelength; empty: equal)", &mut texts.weights);
             });
             ui.horizontal_wrapped(|ui| {
                 ui.label("wavelength sets:");
-                for (name, set, primary) in WAVELENGTH_SETS {
-                    if ui.button(name).clicked() {
-                        texts.wavelengths = list(set);
-                        texts.primary = format!("{}", set[primary]);
+                for set in &WAVELENGTH_SETS {
+                    if ui.button(set.name).clicked() {
+                        texts.wavelengths = list(set.nm);
+                        texts.primary = format!("{}", set.nm[set.primary]);
+                        texts.weights = list(set.weights);
                     }
                 }
             });

@@ -536,6 +536,39 @@ fn the_bench_settings_sheet_edits_the_object_and_the_wavelengths() {
     assert_eq!(h.state().bench.wavelengths_nm.len(), 3);
 }
 
+/// The wavelengths' weights are set in the bench settings sheet, by a named set or typed; a count that
+/// does not match the wavelengths is refused with the reason; the readout names the shares.
+#[test]
+fn the_bench_settings_sheet_sets_the_wavelengths_weights() {
+    let mut h = harness("colour-singlet");
+    h.get_by_label("Edit").click();
+    h.run();
+    h.get_by_label("Bench settings…").click();
+    h.run();
+    h.get_by_label("visible, weighted 1 : 2 : 1").click();
+    h.run();
+    h.get_by_label("Apply").click();
+    h.run();
+    assert_eq!(h.state().bench.wavelength_weights, vec![1.0, 2.0, 1.0]);
+    assert!(h.state().evaluation.report.to_text().contains("weighted 25% : 50% : 25%"));
+    replace_text(&mut h, "weights (one per wavelength; empty: equal)", "1, 3");
+    h.get_by_label("Apply").click();
+    h.run();
+    let _ = h.get_by_label_contains("2 weights for 3 wavelengths");
+    assert_eq!(h.state().bench.wavelength_weights, vec![1.0, 2.0, 1.0]);
+    // Emptied: equal weights again.
+    let field = "weights (one per wavelength; empty: equal)";
+    h.get_by_label(field).focus();
+    h.run();
+    h.key_press_modifiers(egui::Modifiers::COMMAND, Key::A);
+    h.run();
+    h.key_press(Key::Backspace);
+    h.run();
+    h.get_by_label("Apply").click();
+    h.run();
+    assert!(h.state().bench.wavelength_weights.is_empty());
+}
+
 /// A clipped field says which part clips it (clicking the warning selects that part) and offers to shrink
 /// the field to what passes whole; after that nothing is vignetted.
 #[test]
