@@ -52,7 +52,6 @@ fn name(point: Point, wavelength_nm: f64) -> String {
 fn plot<'a>(id: &str, x_label: &'a str, y_label: &'a str, interactive: bool, height: f32) -> Plot<'a> {
     let (xl, yl) = (x_label.to_string(), y_label.to_string());
     Plot::new(id)
-        .legend(Legend::default())
         .x_axis_label(x_label)
         .y_axis_label(y_label)
         .height(height)
@@ -71,6 +70,22 @@ fn plot<'a>(id: &str, x_label: &'a str, y_label: &'a str, interactive: bool, hei
                 }
             })
         })
+}
+
+/// A key drawn outside a plot, wrapped to the width: a dot (or, for a `ring`, a circle) of each entry's
+/// colour before its name.
+fn key_row(ui: &mut egui::Ui, entries: &[(String, Color32, bool)]) {
+    ui.horizontal_wrapped(|ui| {
+        for (label, colour, ring) in entries {
+            let (rect, _) = ui.allocate_exact_size(egui::vec2(10.0, 10.0), egui::Sense::hover());
+            if *ring {
+                ui.painter().circle_stroke(rect.center(), 4.0, egui::Stroke::new(1.5, *colour));
+            } else {
+                ui.painter().circle_filled(rect.center(), 3.5, *colour);
+            }
+            ui.label(egui::RichText::new(label).small());
+        }
+    });
 }
 
 fn circle(cx: f64, cy: f64, r: f64) -> PlotPoints<'static> {
@@ -110,6 +125,14 @@ fn spot_ui(ui: &mut egui::Ui, views: &Views, interactive: bool, height: f32) {
             let (rx, ry) = reference.centroid;
             let colours: Vec<Color32> = series.iter().map(|s| series_colour(col, s.wavelength_nm)).collect();
             let axis = if point == Point::OnAxis { "on-axis" } else { "off-axis" };
+            // The key sits above the plot, so that it never covers a dot.
+            let mut key: Vec<(String, Color32, bool)> =
+                series.iter().zip(&colours).map(|(s, c)| (name(s.point, s.wavelength_nm), *c, false)).collect();
+            if v.airy_radius_mm.is_some() {
+                key.push(("Airy disk".into(), Color32::GRAY, true));
+            }
+            key_row(col, &key);
+            let height = (height - col.spacing().interact_size.y).max(120.0);
             plot(&format!("spot {axis}"), "x, µm", "y, µm", interactive, height).data_aspect(1.0).show(col, |p| {
                 for (s, c) in series.iter().zip(&colours) {
                     let pts: PlotPoints = s.rays.iter().map(|r| [(r.x_mm - rx) * 1e3, (r.y_mm - ry) * 1e3]).collect();
@@ -159,7 +182,7 @@ fn fan_ui(ui: &mut egui::Ui, views: &Views, interactive: bool, height: f32) {
                 ("fan sagittal", "pupil width, sagittal (−1 to 1)", "ray error in x, µm")
             };
             let colours: Vec<Color32> = v.series.iter().map(|s| series_colour(col, s.wavelength_nm)).collect();
-            plot(id, x_label, y_label, interactive, height).show(col, |p| {
+            plot(id, x_label, y_label, interactive, height).legend(Legend::default()).show(col, |p| {
                 for (s, c) in v.series.iter().zip(&colours) {
                     let data = if k == 0 { &s.tangential } else { &s.sagittal };
                     let pts: PlotPoints = data.iter().map(|(q, e)| [*q, e * 1e3]).collect();
@@ -180,7 +203,7 @@ fn sweep_ui(ui: &mut egui::Ui, views: &Views, interactive: bool, height: f32) {
     let colours: Vec<Color32> = v.series.iter().map(|s| series_colour(ui, s.wavelength_nm)).collect();
     let text = ui.visuals().text_color();
     let plane_label = views.spot.as_ref().map_or_else(|| "view plane".to_string(), |s| s.plane_label.clone());
-    plot("sweep", "plane, mm", "RMS radius, µm", interactive, height).show(ui, |p| {
+    plot("sweep", "plane, mm", "RMS radius, µm", interactive, height).legend(Legend::default()).show(ui, |p| {
         if let Some(d) = v.depth_of_focus_mm {
             p.span(Span::new("depth of focus", (v.best_focus_at_mm - d)..=(v.best_focus_at_mm + d)));
         }
@@ -258,13 +281,17 @@ fn field_ui(ui: &mut egui::Ui, views: &Views, interactive: bool, height: f32) {
     ui.columns(2, |cols| {
         let t: Vec<[f64; 2]> = v.points.iter().map(|p| [p.tangential_mm, field(p)]).collect();
         let s: Vec<[f64; 2]> = v.points.iter().map(|p| [p.sagittal_mm, field(p)]).collect();
-        plot("field curves", "focus shift, mm", label, interactive, height).show(&mut cols[0], |p| {
-            p.line(Line::new("tangential", PlotPoints::from(t)).width(1.5));
-            p.line(Line::new("sagittal", PlotPoints::from(s)).style(LineStyle::dashed_dense()).width(1.5));
-            p.vline(VLine::new("paraxial image", 0.0).color(Color32::GRAY));
-        });
+        let legend = Legend::default();
+        plot("field curves", "focus shift, mm", label, interactive, height).legend(legend.clone()).show(
+            &mut cols[0],
+            |p| {
+                p.line(Line::new("tangential", PlotPoints::from(t)).width(1.5));
+                p.line(Line::new("sagittal", PlotPoints::from(s)).style(LineStyle::dashed_dense()).width(1.5));
+                p.vline(VLine::new("paraxial image", 0.0).color(Color32::GRAY));
+            },
+        );
         let d: Vec<[f64; 2]> = v.points.iter().filter_map(|p| p.distortion_percent.map(|d| [d, field(p)])).collect();
-        plot("field distortion", "distortion, %", label, interactive, height).show(&mut cols[1], |p| {
+        plot("field distortion", "distortion, %", label, interactive, height).legend(legend).show(&mut cols[1], |p| {
             p.line(Line::new("distortion", PlotPoints::from(d)).width(1.5));
             p.vline(VLine::new("no distortion", 0.0).color(Color32::GRAY));
         });

@@ -239,7 +239,14 @@ pub fn rail_svg_sized(evaluation: &Evaluation, scene: &Scene, size: (f64, f64)) 
         marks = marks.add(arrow(&map, at_mm, height_mm, "rgb(200,120,0)", false).set("class", "object"));
     }
     for img in &scene.images {
-        marks = marks.add(arrow(&map, img.at_mm, img.height_mm, "black", !img.real).set("class", "image"));
+        // The label beyond the arrow's tip, away from the axis.
+        let y_tip = map.y(img.height_mm);
+        let y_label = if img.height_mm >= 0.0 { y_tip - 8.0 } else { y_tip + 18.0 };
+        marks = marks.add(
+            arrow(&map, img.at_mm, img.height_mm, "black", !img.real)
+                .set("class", "image")
+                .add(text(map.x(img.at_mm), y_label, 11.0, "middle", &img.label()).set("class", "image-label")),
+        );
     }
     doc = doc.add(marks);
     doc.to_string()

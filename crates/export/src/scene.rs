@@ -30,6 +30,31 @@ pub struct DrawnImage {
     pub height_mm: f64,
     /// Real (solid) or virtual (ghost).
     pub real: bool,
+    /// Lateral magnification from the object (negative: inverted).
+    pub magnification: Option<f64>,
+}
+
+impl DrawnImage {
+    /// The image's short label on the rail: "image ×-0.50", "virtual image ×2.00" (the magnification to
+    /// two decimals; the readout has it to five).
+    pub fn label(&self) -> String {
+        let kind = if self.real { "image" } else { "virtual image" };
+        match self.magnification {
+            Some(m) => format!("{kind} ×{}", lumenrail_bench::report::fixed(m, 2)),
+            None => kind.to_string(),
+        }
+    }
+
+    /// The image whole, for a tooltip: kind, place, magnification and height.
+    pub fn description(&self) -> String {
+        let kind = if self.real { "real image" } else { "virtual image" };
+        let m = self.magnification.map_or_else(String::new, |m| format!(", magnification {m:.5}"));
+        format!(
+            "{kind} at {} mm{m}, height {} mm",
+            lumenrail_bench::report::fixed(self.at_mm, 3),
+            lumenrail_bench::report::fixed(self.height_mm, 3)
+        )
+    }
 }
 
 /// Everything the rail view draws besides the parts.
@@ -54,7 +79,14 @@ impl Scene {
         scene.images = analysis
             .images()
             .iter()
-            .filter_map(|i| Some(DrawnImage { at_mm: i.at_mm?, height_mm: i.height_mm?, real: i.real }))
+            .filter_map(|i| {
+                Some(DrawnImage {
+                    at_mm: i.at_mm?,
+                    height_mm: i.height_mm?,
+                    real: i.real,
+                    magnification: i.magnification,
+                })
+            })
             .collect();
         let last_screen = evaluation
             .screens

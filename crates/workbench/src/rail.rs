@@ -181,6 +181,28 @@ pub(crate) fn rail_ui(wb: &mut Workbench, ui: &mut egui::Ui) {
     for i in wb.bench.rail_order() {
         part_ui(wb, ui, &painter, &scale_painter, &f, i, &mut labels);
     }
+    // Image labels beyond each arrow's tip (below an inverted image), stepping aside from the parts'
+    // labels and from each other; the tooltip gives the image whole.
+    for (k, img) in wb.scene.images.iter().enumerate() {
+        let tip = f.at(img.at_mm, img.height_mm);
+        let up = img.height_mm >= 0.0;
+        let anchor = tip + vec2(0.0, if up { -4.0 } else { 4.0 });
+        let colour = if img.real { Color32::from_gray(235) } else { Color32::from_rgb(190, 190, 255) };
+        if let Some(r) = place_label(&painter, anchor, &img.label(), colour, &mut labels, up) {
+            let hover = ui.interact(r, ui.scope_id().with(("image", k)), Sense::click_and_drag());
+            let label = img.label();
+            hover.widget_info(|| egui::WidgetInfo::labeled(egui::Role::Label, true, &label));
+            // A label takes the pointer (so that its tooltip shows over the part behind it); dragging it
+            // pans as dragging empty rail does.
+            if hover.dragged() {
+                let d = hover.drag_delta();
+                wb.view.px_per_mm = Some(px_per_mm);
+                wb.view.left_mm = left_mm - d.x / px_per_mm;
+                wb.view.centre_y_mm = centre_y_mm + d.y / py_per_mm;
+            }
+            hover.on_hover_text(img.description());
+        }
+    }
 }
 
 fn rail_scale_ui(painter: &egui::Painter, f: &Frame, rail_mm: f64) {
@@ -288,21 +310,37 @@ const LABEL_ROWS: usize = 3;
 
 /// Draws a part's name centred above `anchor`, one row higher for each placed label it would overlap (up
 /// to [`LABEL_ROWS`] rows); where every row is taken, the name is shortened with "…" to the free width
-/// (the part's tooltip has it whole). Returns nothing; the placed rectangle joins `placed`.
+/// (the part's tooltip has it whole). The placed rectangle joins `placed`.
 fn part_label(painter: &egui::Painter, anchor: Pos2, name: &str, colour: Color32, placed: &mut Vec<Rect>) {
+    place_label(painter, anchor, name, colour, placed, true);
+}
+
+/// Draws `name` centred on `anchor`'s x, its near edge at `anchor` (above it when `up`, else below),
+/// stepping a row further away for each placed label it would overlap, then shortened as
+/// [`part_label`] says. Returns the rectangle drawn in, if any.
+fn place_label(
+    painter: &egui::Painter,
+    anchor: Pos2,
+    name: &str,
+    colour: Color32,
+    placed: &mut Vec<Rect>,
+    up: bool,
+) -> Option<Rect> {
     let font = egui::FontId::proportional(12.0);
     let galley = painter.layout_no_wrap(name.to_string(), font.clone(), colour);
     let size = galley.size();
     let row_h = size.y + 2.0;
+    let away = if up { -1.0 } else { 1.0 };
     let rect_at = |row: usize, width: f32| {
-        Rect::from_center_size(pos2(anchor.x, anchor.y - 0.5 * size.y - row as f32 * row_h), vec2(width + 4.0, size.y))
+        let y = anchor.y + away * (0.5 * size.y + row as f32 * row_h);
+        Rect::from_center_size(pos2(anchor.x, y), vec2(width + 4.0, size.y))
     };
     for row in 0..LABEL_ROWS {
         let r = rect_at(row, size.x);
         if !placed.iter().any(|p| p.intersects(r)) {
             painter.galley(r.min + vec2(2.0, 0.0), galley, colour);
             placed.push(r);
-            return;
+            return Some(r);
         }
     }
     // Every row is taken: shorten the name to fit between the labels on the lowest row.
@@ -322,12 +360,14 @@ fn part_label(painter: &egui::Painter, anchor: Pos2, name: &str, colour: Color32
     while !short.is_empty() && painter.layout_no_wrap(format!("{short}…"), font.clone(), colour).size().x > room {
         short.pop();
     }
-    if !short.is_empty() {
-        let g = painter.layout_no_wrap(format!("{short}…"), font, colour);
-        let r = Rect::from_center_size(row0.center(), g.size());
-        painter.galley(r.min, g, colour);
-        placed.push(r);
+    if short.is_empty() {
+        return None;
     }
+    let g = painter.layout_no_wrap(format!("{short}…"), font, colour);
+    let r = Rect::from_center_size(row0.center(), g.size());
+    painter.galley(r.min, g, colour);
+    placed.push(r);
+    Some(r)
 }
 
 /// The outline of a lens of surfaces at their vertices, on screen, as a closed polygon per element.
@@ -534,5 +574,24 @@ mod tests {
         }
         assert!(placed[1].bottom() < placed[0].top() + 1.0, "the second label did not step up");
         assert!(placed[3].width() < placed[0].width(), "the fourth label was not shortened");
+    }
+
+    /// An image's label below its inverted arrow steps down, away from the axis, past a label already
+    /// there, and never overlaps it.
+    #[test]
+    fn labels_below_the_axis_step_down() {
+        let ctx = egui::Context::default();
+        let mut placed = Vec::new();
+        let mut out = ctx.run_ui(egui::RawInput::default(), |ui| {
+            let painter = ui.painter().clone();
+            for x in [200.0, 204.0] {
+                place_label(&painter, pos2(x, 300.0), "image ×-1.00", Color32::WHITE, &mut placed, false);
+            }
+        });
+        out.textures_delta.clear();
+        assert_eq!(placed.len(), 2);
+        assert!(placed[0].top() >= 300.0 - 1e-3, "drawn below its anchor: {:?}", placed[0]);
+        assert!(placed[1].top() >= placed[0].bottom() - 1.0, "{placed:?}");
+        assert!(!placed[0].intersects(placed[1]));
     }
 }

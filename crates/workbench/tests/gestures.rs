@@ -598,3 +598,27 @@ fn a_clipped_field_names_the_part_and_can_be_shrunk_to_what_passes() {
     assert_eq!(r.off_axis_area_transmission, Some(1.0));
     assert!(!r.warnings.iter().any(|w| w.message.contains("vignetting")), "{:?}", r.warnings);
 }
+
+/// Images are labelled on the rail with their magnification, beyond the arrow's tip, clear of the parts'
+/// labels; hovering a label gives the image whole. The unit relay images at m = −1 on the field screen
+/// and m = +1 on the camera plane (two 2f–2f stages: Gaussian imaging).
+#[test]
+fn images_are_labelled_on_the_rail_clear_of_the_parts() {
+    let mut h = harness("unit-relay");
+    let first = h.get_by_label("image ×-1.00").rect();
+    let second = h.get_by_label("image ×1.00").rect();
+    assert!(!first.intersects(second));
+    for part in ["Relay A", "Field screen", "Relay B", "Camera plane"] {
+        let p = h.get_by_label(part).rect();
+        // The part's own label sits above its top; the image labels sit by the arrows, on the rail.
+        assert!(
+            !first.intersects(egui::Rect::from_min_max(p.min - egui::vec2(0.0, 40.0), egui::pos2(p.max.x, p.min.y))),
+            "{part}"
+        );
+    }
+    h.hover_at(first.center());
+    for _ in 0..4 {
+        h.step();
+    }
+    let _ = h.get_by_label_contains("real image at 200.000 mm, magnification -1.00000");
+}
