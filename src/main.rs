@@ -19,6 +19,9 @@ struct Cli {
     /// Open the window, let the layout settle, write a PNG of it to this path, and exit.
     #[arg(long, value_name = "OUT.png")]
     screenshot: Option<PathBuf>,
+    /// The window's size when it opens, `WIDTHxHEIGHT` in points (default 1400x860, or as last closed).
+    #[arg(long, value_name = "WxH", value_parser = parse_size)]
+    window: Option<(u32, u32)>,
     #[command(subcommand)]
     command: Option<Command>,
 }
@@ -84,7 +87,7 @@ enum Command {
 fn main() -> ExitCode {
     let cli = Cli::parse();
     match cli.command {
-        None => match lumenrail_workbench::app::run(cli.file, cli.screenshot) {
+        None => match lumenrail_workbench::app::run(cli.file, cli.screenshot, cli.window) {
             Ok(()) => ExitCode::SUCCESS,
             Err(e) => {
                 eprintln!("lumenrail: {e}");

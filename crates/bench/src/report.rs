@@ -263,8 +263,13 @@ pub trait ViewingWords {
 
 impl ViewingWords for Viewing {
     fn words(&self) -> String {
-        let mut w =
-            format!("The image is for viewing, not for a screen: virtual, at {} mm", fixed(self.image_at_mm, 3));
+        let mut w = match self.image_at_mm {
+            Some(z) => format!("The image is for viewing, not for a screen: virtual, at {} mm", fixed(z, 3)),
+            None => {
+                "The image is for viewing, not for a screen: at infinity (the light leaves parallel, for a relaxed eye)"
+                    .to_string()
+            }
+        };
         if let Some(d) = self.from_exit_pupil_mm {
             let side = if d < 0.0 { "behind" } else { "beyond" };
             let _ = write!(w, ", {} mm {side} the exit pupil (where the eye goes)", fixed(d.abs(), 3));

@@ -63,7 +63,7 @@ fn magnifier_gives_a_virtual_erect_enlarged_image() {
     // lens, its own stop) it subtends the object's own angle, tan θ = 4/30: the chief ray through a thin
     // lens's centre is undeviated (Hecht, sec. 5.2).
     let v = r.viewing.expect("a virtual final image is for viewing");
-    assert!(close(v.image_at_mm, 100.0 + s1, 1e-12));
+    assert!(close(v.image_at_mm.unwrap(), 100.0 + s1, 1e-12));
     assert!(close(v.from_exit_pupil_mm.unwrap(), s1, 1e-12));
     assert!(close(v.angular_size_deg.unwrap(), (4.0f64 / 30.0).atan().to_degrees(), 1e-12));
     assert!(r.first_order.f_number.is_none() && r.aberrations.airy_radius_um.is_none());
@@ -133,6 +133,14 @@ fn microscope_objective_magnifies_eight_times_and_the_eyepiece_sends_the_image_t
     // The intermediate image sits at the eyepiece's front focus (197 − 25 = 172 mm): final image at infinity.
     assert_eq!(r.images.last().unwrap().at_mm, None);
     assert!(!r.images.last().unwrap().erect);
+    // For viewing with a relaxed eye: the 4 mm intermediate image in the eyepiece's focal plane leaves as
+    // parallel light at tan θ = 4/25 (an ideal thin lens sends every ray from a point of its focal plane
+    // out at tan u' = tan u − y/f, the same for all; Hecht, sec. 5.2); no f-number means anything here.
+    let v = r.viewing.expect("an image at infinity is for viewing");
+    assert_eq!(v.image_at_mm, None);
+    assert!(close(v.angular_size_deg.unwrap(), (4.0f64 / 25.0).atan().to_degrees(), 1e-12));
+    assert!(r.first_order.f_number.is_none());
+    assert!(r.to_text().contains("at infinity (the light leaves parallel"), "{}", r.to_text());
 }
 
 #[test]

@@ -150,17 +150,19 @@ pub struct WhiteFocus {
 }
 
 /// A final image that is for viewing, not for a screen: a virtual image (the light leaves diverging, as
-/// from a magnifier or an eyepiece), seen from the exit pupil, where the viewer's eye goes.
+/// from a magnifier or an eyepiece) or one at infinity (the light leaves parallel, as from an eyepiece
+/// focused for a relaxed eye), seen from the exit pupil, where the viewer's eye goes.
 #[derive(Debug, Clone, Copy, PartialEq)]
 #[cfg_attr(feature = "serde", derive(serde::Serialize))]
 pub struct Viewing {
-    /// Rail position of the virtual image.
-    pub image_at_mm: f64,
+    /// Rail position of the virtual image (`None`: at infinity).
+    pub image_at_mm: Option<f64>,
     /// Its distance from the exit pupil, mm, along the light (negative: behind the pupil, where a virtual
     /// image lies; `None` when the exit pupil is at infinity).
     pub from_exit_pupil_mm: Option<f64>,
     /// The angle the off-axis point's image subtends at the exit pupil's centre, degrees (`None` without an
-    /// off-axis point or with the exit pupil at infinity).
+    /// off-axis point or with the exit pupil at infinity). For an image at infinity, the angle of the
+    /// paraxial chief ray leaving the last surface: every ray from that point leaves at it.
     pub angular_size_deg: Option<f64>,
 }
 
@@ -332,17 +334,25 @@ pub fn analyse_wavelengths(wavelengths: Vec<Wavelength>, request: &Request) -> R
     ));
     let last = seq.steps.last().expect("pupils imply surfaces");
     let final_real = primary.images.last().is_some_and(|i| i.real);
-    if final_image.is_some()
+    if let Some(image) = primary.images.last()
         && !final_real
-        && let Some(image) = primary.images.last()
     {
-        let z = final_image.expect("checked");
-        let from_exit_pupil_mm = p.exit_pupil_at_mm.map(|e| (z - e) * last.dir_after);
-        let angular_size_deg = from_exit_pupil_mm
-            .filter(|d| *d != 0.0)
-            .zip(image.height_mm)
-            .map(|(d, h)| (h.abs() / d.abs()).atan().to_degrees());
-        analysis.viewing = Some(Viewing { image_at_mm: z, from_exit_pupil_mm, angular_size_deg });
+        analysis.viewing = Some(match final_image {
+            Some(z) => {
+                let from_exit_pupil_mm = p.exit_pupil_at_mm.map(|e| (z - e) * last.dir_after);
+                let angular_size_deg = from_exit_pupil_mm
+                    .filter(|d| *d != 0.0)
+                    .zip(image.height_mm)
+                    .map(|(d, h)| (h.abs() / d.abs()).atan().to_degrees());
+                Viewing { image_at_mm: Some(z), from_exit_pupil_mm, angular_size_deg }
+            }
+            None => {
+                let slope = p.chief.last().map(|c| (c.nu / last.n_after).abs());
+                let has_field = p.chief_start.nu != 0.0 || p.chief_start.y_mm != 0.0;
+                let angular_size_deg = slope.filter(|_| has_field).map(|u| u.atan().to_degrees());
+                Viewing { image_at_mm: None, from_exit_pupil_mm: None, angular_size_deg }
+            }
+        });
     }
     if final_image.is_some()
         && final_real

@@ -171,8 +171,9 @@ impl WorkbenchApp {
     }
 }
 
-/// Opens the workbench window on `file` (or the default demo).
-pub fn run(file: Option<PathBuf>, screenshot: Option<PathBuf>) -> Result<(), String> {
+/// Opens the workbench window on `file` (or the default demo), `window` points large (width, height) if
+/// given, else as it was last closed (1400 × 860 the first time).
+pub fn run(file: Option<PathBuf>, screenshot: Option<PathBuf>, window: Option<(u32, u32)>) -> Result<(), String> {
     let workbench = match file {
         Some(p) => {
             let mut wb = Workbench::demo(lumenrail_bench::demos::DEFAULT);
@@ -183,9 +184,10 @@ pub fn run(file: Option<PathBuf>, screenshot: Option<PathBuf>) -> Result<(), Str
         }
         None => Workbench::demo(lumenrail_bench::demos::DEFAULT),
     };
+    let size = window.map_or([1400.0, 860.0], |(w, h)| [w as f32, h as f32]);
     let options = eframe::NativeOptions {
-        viewport: egui::ViewportBuilder::default().with_inner_size([1400.0, 860.0]).with_title("Lumenrail"),
-        persist_window: screenshot.is_none(),
+        viewport: egui::ViewportBuilder::default().with_inner_size(size).with_title("Lumenrail"),
+        persist_window: screenshot.is_none() && window.is_none(),
         ..Default::default()
     };
     eframe::run_native(

@@ -181,13 +181,15 @@ pub(crate) fn rail_ui(wb: &mut Workbench, ui: &mut egui::Ui) {
     for i in wb.bench.rail_order() {
         part_ui(wb, ui, &painter, &scale_painter, &f, i, &mut labels);
     }
-    // Image labels beyond each arrow's tip (below an inverted image), stepping aside from the parts'
-    // labels and from each other; the tooltip gives the image whole.
+    // Image labels by each arrow's tip (below an inverted image), stepping aside from the parts' labels
+    // and from each other; the tooltip gives the image whole.
     for (k, img) in wb.scene.images.iter().enumerate() {
         let tip = f.at(img.at_mm, img.height_mm);
         let up = img.height_mm >= 0.0;
-        let anchor = tip + vec2(0.0, if up { -4.0 } else { 4.0 });
         let colour = if img.real { Color32::from_gray(235) } else { Color32::from_rgb(190, 190, 255) };
+        // Beside the arrow (to its right), clear of the part that stands at the image.
+        let width = painter.layout_no_wrap(img.label(), egui::FontId::proportional(12.0), colour).size().x;
+        let anchor = tip + vec2(0.5 * width + 8.0, if up { -2.0 } else { 2.0 });
         if let Some(r) = place_label(&painter, anchor, &img.label(), colour, &mut labels, up) {
             let hover = ui.interact(r, ui.scope_id().with(("image", k)), Sense::click_and_drag());
             let label = img.label();
