@@ -164,25 +164,36 @@ fn a_moved_part_is_evaluated_once_and_every_panel_projects_it() {
     }
 }
 
-/// At 1280 × 800 with a part selected, the views panel's controls stay between the part sheet and the
-/// readout (they wrap instead of running under the readout), and the side panels keep their widths.
+/// At 1280 × 800 and 1600 × 1000 with a part selected, the views panel's controls stay between the part
+/// sheet and the readout (they wrap instead of running under the readout), every panel stays inside the
+/// window, and the side panels keep their widths.
 #[test]
-fn at_1280_by_800_every_panel_stays_in_its_area() {
-    for demo in ["camera-meniscus", "unit-relay", "colour-achromat"] {
-        let mut wb = Workbench::demo(demo);
-        wb.selected = Some(0);
-        let mut h = Harness::builder()
-            .with_size(egui::vec2(1280.0, 800.0))
-            .build_ui_state(|ui, wb: &mut Workbench| wb.ui(ui), wb);
-        h.run();
-        let readout = h.get_by_label("Readout").rect();
-        let sheet = h.get_by_label("Part sheet").rect();
-        for control in ["Export PNG…", "Export CSV…", "pupil pattern", "spot", "field"] {
-            let r = h.get_by_label(control).rect();
-            assert!(r.max.x <= readout.min.x && r.min.x >= sheet.max.x, "{demo}: {control} at {r:?}");
-            assert!(r.max.y <= 800.0, "{demo}: {control} below the window: {r:?}");
+fn at_both_window_sizes_every_panel_stays_in_its_area() {
+    for (w, h_px) in [(1280.0, 800.0), (1600.0, 1000.0)] {
+        for demo in ["camera-meniscus", "unit-relay", "colour-achromat"] {
+            let mut wb = Workbench::demo(demo);
+            wb.selected = Some(0);
+            let mut h = Harness::builder()
+                .with_size(egui::vec2(w, h_px))
+                .build_ui_state(|ui, wb: &mut Workbench| wb.ui(ui), wb);
+            h.run();
+            let window = egui::Rect::from_min_size(egui::Pos2::ZERO, egui::vec2(w, h_px));
+            let readout = h.get_by_label("Readout").rect();
+            let sheet = h.get_by_label("Part sheet").rect();
+            for control in ["Export PNG…", "Export CSV…", "pupil pattern", "spot", "field"] {
+                let r = h.get_by_label(control).rect();
+                assert!(r.max.x <= readout.min.x && r.min.x >= sheet.max.x, "{demo} {w}: {control} at {r:?}");
+                assert!(r.max.y <= h_px, "{demo} {w}: {control} below the window: {r:?}");
+            }
+            for panel in [readout, sheet] {
+                assert!(window.contains_rect(panel), "{demo} {w}: {panel:?} leaves the window");
+            }
+            assert!(readout.min.x >= w - 560.0 - 1.0, "{demo} {w}: the readout widened to {readout:?}");
+            // The rail's parts are drawn between the side panels.
+            let first = &h.state().bench.parts[0].name.clone();
+            let part = h.get_by_label(first).rect();
+            assert!(part.min.x >= sheet.max.x - 1.0 && part.max.x <= readout.min.x + 1.0, "{demo} {w}: {part:?}");
         }
-        assert!(readout.min.x >= 1280.0 - 560.0 - 1.0, "{demo}: the readout widened to {readout:?}");
     }
 }
 
