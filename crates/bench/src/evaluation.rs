@@ -288,6 +288,11 @@ impl Placer {
         })
     }
 
+    /// Takes the plane of part `index` (a screen) as the target plane of the RMS spot.
+    pub fn aim_at(&mut self, index: usize) {
+        self.target = Some(index).filter(|&i| i < self.at_mm.len());
+    }
+
     /// Moves part `index` to `at_mm`. Refused, leaving the part where it was, when that changes the order
     /// of the surfaces along the light path (then the bench must be evaluated in full).
     pub fn place(&mut self, index: usize, at_mm: f64) -> Result<(), PlaceError> {

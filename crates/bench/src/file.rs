@@ -343,7 +343,15 @@ pub fn to_text(bench: &Bench) -> String {
     for i in bench.rail_order() {
         let _ = writeln!(t, "        {},", one_line(&bench.parts[i]));
     }
-    t.push_str("    ],\n)\n");
+    t.push_str("    ],\n");
+    if !bench.aims.is_empty() {
+        t.push_str("    aims: [\n");
+        for aim in &bench.aims {
+            let _ = writeln!(t, "        {},", one_line(aim));
+        }
+        t.push_str("    ],\n");
+    }
+    t.push_str(")\n");
     t
 }
 

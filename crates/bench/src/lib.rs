@@ -8,6 +8,7 @@
 //! assert!(report.images.last().unwrap().real);
 //! ```
 
+pub mod aims;
 pub mod compile;
 pub mod demos;
 pub mod evaluation;

@@ -28,6 +28,79 @@ pub struct Bench {
     pub object: ObjectSpec,
     /// The parts, in any order (the rail position decides).
     pub parts: Vec<Part>,
+    /// What the user wants of the bench, each with its tolerance (left out of the file when there are
+    /// none; format-1 files without it read as before).
+    #[serde(default, skip_serializing_if = "Vec::is_empty")]
+    pub aims: Vec<Aim>,
+}
+
+/// A goal the user sets for the bench, with its tolerance: what the report checks and the arranger
+/// searches for.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub enum Aim {
+    /// A sharp image on the named screen: met when the on-axis RMS spot radius there is at most `rms_um`.
+    SharpOn {
+        /// The screen's name.
+        screen: String,
+        /// The largest acceptable on-axis RMS radius, µm.
+        rms_um: f64,
+    },
+    /// The final image's lateral magnification (negative: inverted), within ± `tolerance`.
+    Magnification {
+        /// The magnification wanted.
+        value: f64,
+        /// How far from it is still met.
+        tolerance: f64,
+    },
+    /// The distance from the object to the final image along the rail, mm, within ± `tolerance_mm`.
+    ObjectToImage {
+        /// The distance wanted, mm.
+        distance_mm: f64,
+        /// How far from it is still met, mm.
+        tolerance_mm: f64,
+    },
+    /// The bench no longer than this, mm: from the object (a distant object: the first part) to the
+    /// farthest part or real final image.
+    TotalLength {
+        /// The longest acceptable length, mm.
+        at_most_mm: f64,
+    },
+    /// An afocal output (parallel light out for parallel light in) with this angular magnification,
+    /// within ± `tolerance`.
+    AngularMagnification {
+        /// The angular magnification wanted (negative: inverted).
+        value: f64,
+        /// How far from it is still met.
+        tolerance: f64,
+    },
+    /// An afocal output that widens a parallel beam this many times (1/|angular magnification|), within
+    /// ± `tolerance`.
+    BeamExpansion {
+        /// The ratio of beam diameters, out over in.
+        ratio: f64,
+        /// How far from it is still met.
+        tolerance: f64,
+    },
+    /// The final image's height (negative: below the axis), mm, within ± `tolerance_mm`.
+    ImageHeight {
+        /// The height wanted, mm.
+        height_mm: f64,
+        /// How far from it is still met, mm.
+        tolerance_mm: f64,
+    },
+    /// The final image's working f-number between `min` and `max`.
+    WorkingFNumber {
+        /// The smallest acceptable.
+        min: f64,
+        /// The largest acceptable.
+        max: f64,
+    },
+    /// Neighbouring carriers at least this far apart, mm (parts without a carrier count their glass).
+    CarrierGap {
+        /// The smallest acceptable gap, mm.
+        at_least_mm: f64,
+    },
 }
 
 /// The object.
@@ -69,6 +142,9 @@ pub struct Part {
         serialize_with = "plain"
     )]
     pub carrier_mm: Option<f64>,
+    /// The label of the drawer item the part was placed from, if any.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub from_drawer: Option<String>,
 }
 
 /// A surface shape.
@@ -175,7 +251,52 @@ pub enum PartKind {
     },
 }
 
+impl SurfaceSpec {
+    /// The same surface met from the other side: its radius negated.
+    pub fn reversed(self) -> SurfaceSpec {
+        match self {
+            SurfaceSpec::Flat => SurfaceSpec::Flat,
+            SurfaceSpec::Radius(r) => SurfaceSpec::Radius(-r),
+            SurfaceSpec::Conic { radius, conic } => SurfaceSpec::Conic { radius: -radius, conic },
+        }
+    }
+}
+
 impl PartKind {
+    /// The part turned round on the rail: surfaces in reverse order with their radii negated (a doublet's
+    /// thicknesses and glasses swap). Thin lenses, mirrors, irises and screens are unchanged.
+    pub fn turned(&self) -> PartKind {
+        match self {
+            PartKind::Singlet { front, back, thickness_mm, diameter_mm, material } => PartKind::Singlet {
+                front: back.reversed(),
+                back: front.reversed(),
+                thickness_mm: *thickness_mm,
+                diameter_mm: *diameter_mm,
+                material: material.clone(),
+            },
+            PartKind::Doublet {
+                front,
+                middle,
+                back,
+                thickness1_mm,
+                thickness2_mm,
+                material1,
+                material2,
+                diameter_mm,
+            } => PartKind::Doublet {
+                front: back.reversed(),
+                middle: middle.reversed(),
+                back: front.reversed(),
+                thickness1_mm: *thickness2_mm,
+                thickness2_mm: *thickness1_mm,
+                material1: material2.clone(),
+                material2: material1.clone(),
+                diameter_mm: *diameter_mm,
+            },
+            other => other.clone(),
+        }
+    }
+
     /// A short word for the kind, for messages.
     pub fn word(&self) -> &'static str {
         match self {

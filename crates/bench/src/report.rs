@@ -248,6 +248,8 @@ pub struct Report {
     /// When the final image is virtual, for viewing: where it is seen from the exit pupil (then the report
     /// gives no f-number, Airy radius, depth of focus or best focus: no screen can catch that image).
     pub viewing: Option<Viewing>,
+    /// Each of the bench's aims: its target, the value reached, met or not.
+    pub aims: Vec<crate::aims::AimStatus>,
     /// Everything that needs a look.
     pub warnings: Vec<Warning>,
     /// Why the bench cannot be traced as asked (null when it can).
@@ -323,6 +325,7 @@ impl Report {
             field: None,
             colour: Vec::new(),
             viewing: None,
+            aims: Vec::new(),
             warnings: Vec::new(),
             trace_failure: failure,
         };
@@ -345,6 +348,7 @@ impl Report {
             }
             report.fill(bench, &t.compiled, &t.analysis, screens);
         }
+        report.aims = crate::aims::assess(bench, &report);
         report
     }
 
@@ -713,6 +717,13 @@ impl Report {
             );
             let pc = f.distortion_percent.map_or_else(|| "—".to_string(), |d| format!("{}%", fixed(d, 4)));
             let _ = writeln!(t, "  distortion {pc}   lateral colour {}", mm(f.lateral_colour_mm));
+        }
+        if !self.aims.is_empty() {
+            let met = self.aims.iter().filter(|a| a.met).count();
+            let _ = writeln!(t, "\nAims ({met} of {} met)", self.aims.len());
+            for a in &self.aims {
+                let _ = writeln!(t, "  {}", a.line());
+            }
         }
         if !self.warnings.is_empty() {
             let _ = writeln!(t, "\nWarnings");

@@ -343,6 +343,7 @@ pub fn validate(bench: &Bench) -> Vec<Finding> {
             }
         }
     }
+    aims(&mut c);
     c.findings.sort_by_key(|f| f.severity != Severity::Error);
     c.findings
 }
@@ -369,6 +370,69 @@ fn edge_check(c: &mut Checker<'_>, i: usize, surfaces: &[SurfaceSpec], thickness
                     2.0 * semi_mm
                 ),
             );
+        }
+    }
+}
+
+/// Each aim's numbers must make sense, and a screen it names must be on the bench.
+fn aims(c: &mut Checker<'_>) {
+    use crate::model::Aim;
+    let bench = c.bench;
+    for (k, aim) in bench.aims.iter().enumerate() {
+        let n = k + 1;
+        let mut need = |ok: bool, what: String| {
+            if !ok {
+                c.error(None, "aims", format!("aim {n}: {what}"));
+            }
+        };
+        let finite = |v: f64| v.is_finite();
+        let tol = |v: f64| v.is_finite() && v >= 0.0;
+        match aim {
+            Aim::SharpOn { screen, rms_um } => {
+                let named = bench.parts.iter().any(|p| &p.name == screen && matches!(p.kind, PartKind::Screen { .. }));
+                need(named, format!("there is no screen named \"{screen}\" on the bench"));
+                need(rms_um.is_finite() && *rms_um > 0.0, format!("the RMS spot radius {rms_um} µm must be above 0"));
+            }
+            Aim::Magnification { value, tolerance } | Aim::AngularMagnification { value, tolerance } => {
+                need(
+                    finite(*value) && *value != 0.0,
+                    format!("the magnification {value} must be a number other than 0"),
+                );
+                need(tol(*tolerance), format!("the tolerance {tolerance} must be a number of at least 0"));
+            }
+            Aim::BeamExpansion { ratio, tolerance } => {
+                need(ratio.is_finite() && *ratio > 0.0, format!("the expansion ratio {ratio} must be above 0"));
+                need(tol(*tolerance), format!("the tolerance {tolerance} must be a number of at least 0"));
+            }
+            Aim::ObjectToImage { distance_mm, tolerance_mm } => {
+                need(finite(*distance_mm), format!("the distance {distance_mm} mm must be a number"));
+                need(tol(*tolerance_mm), format!("the tolerance {tolerance_mm} mm must be a number of at least 0"));
+                need(
+                    matches!(bench.object, ObjectSpec::Point { .. }),
+                    "an object-to-image distance needs an object on the rail, not a distant one".into(),
+                );
+            }
+            Aim::ImageHeight { height_mm, tolerance_mm } => {
+                need(finite(*height_mm), format!("the image height {height_mm} mm must be a number"));
+                need(tol(*tolerance_mm), format!("the tolerance {tolerance_mm} mm must be a number of at least 0"));
+            }
+            Aim::TotalLength { at_most_mm } => {
+                need(
+                    at_most_mm.is_finite() && *at_most_mm > 0.0,
+                    format!("the length {at_most_mm} mm must be above 0"),
+                );
+            }
+            Aim::WorkingFNumber { min, max } => {
+                need(
+                    min.is_finite() && max.is_finite() && *min > 0.0 && min <= max,
+                    format!(
+                        "the f-number range {min} to {max} must run from a number above 0 up to one at least as large"
+                    ),
+                );
+            }
+            Aim::CarrierGap { at_least_mm } => {
+                need(tol(*at_least_mm), format!("the gap {at_least_mm} mm must be a number of at least 0"));
+            }
         }
     }
 }

@@ -286,7 +286,13 @@ impl Workbench {
             _ => PartKind::Screen { diameter_mm: 50.0 },
         };
         let word = kind.word();
-        Part { name: self.fresh_name(word), at_mm: (0.5 * self.bench.rail_length_mm).round(), kind, carrier_mm: None }
+        Part {
+            name: self.fresh_name(word),
+            at_mm: (0.5 * self.bench.rail_length_mm).round(),
+            kind,
+            carrier_mm: None,
+            from_drawer: None,
+        }
     }
 
     /// Moves screen `index` to the best-focus plane of the report.

@@ -66,6 +66,7 @@ impl Workbench {
                     wavelength_weights: Vec::new(),
                     object: ObjectSpec::Point { at_mm: 0.0, height_mm: 5.0 },
                     parts: Vec::new(),
+                    aims: Vec::new(),
                 };
                 self.replace_document(Workbench::new(bench, None));
             }

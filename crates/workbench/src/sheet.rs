@@ -193,37 +193,9 @@ fn part_from(old: &Part, texts: &BTreeMap<&'static str, String>) -> Result<Part,
     Ok(p)
 }
 
-/// The part turned round: surfaces in reverse order with their radii negated.
+/// The part turned round (see [`PartKind::turned`]).
 pub(crate) fn flipped(p: &Part) -> Part {
-    let neg = |s: &SurfaceSpec| match *s {
-        SurfaceSpec::Flat => SurfaceSpec::Flat,
-        SurfaceSpec::Radius(r) => SurfaceSpec::Radius(-r),
-        SurfaceSpec::Conic { radius, conic } => SurfaceSpec::Conic { radius: -radius, conic },
-    };
-    let mut q = p.clone();
-    q.kind = match &p.kind {
-        PartKind::Singlet { front, back, thickness_mm, diameter_mm, material } => PartKind::Singlet {
-            front: neg(back),
-            back: neg(front),
-            thickness_mm: *thickness_mm,
-            diameter_mm: *diameter_mm,
-            material: material.clone(),
-        },
-        PartKind::Doublet { front, middle, back, thickness1_mm, thickness2_mm, material1, material2, diameter_mm } => {
-            PartKind::Doublet {
-                front: neg(back),
-                middle: neg(middle),
-                back: neg(front),
-                thickness1_mm: *thickness2_mm,
-                thickness2_mm: *thickness1_mm,
-                material1: material2.clone(),
-                material2: material1.clone(),
-                diameter_mm: *diameter_mm,
-            }
-        }
-        other => other.clone(),
-    };
-    q
+    Part { kind: p.kind.turned(), ..p.clone() }
 }
 
 /// Validates the bench with `candidate` as part `index`; returns the first error the change brings, as
