@@ -10,6 +10,7 @@
 
 pub mod compile;
 pub mod demos;
+pub mod drawer;
 pub mod evaluation;
 pub mod file;
 pub mod model;
