@@ -4,7 +4,7 @@
 //! input.
 
 use clap::{Parser, Subcommand};
-use lumenrail_bench::{demos, file, report::Report};
+use lumenrail_bench::{demos, drawer, file, report::Report};
 use lumenrail_optics::library;
 use std::io::Write;
 use std::path::{Path, PathBuf};
@@ -36,10 +36,15 @@ enum Command {
         #[arg(long)]
         json: bool,
     },
-    /// Validate a bench file: exit 0 when valid, 2 with `file:line:col: message` when not.
+    /// Validate a bench file or a drawer file: exit 0 when valid, 2 with `file:line:col: message` when not.
     Check {
-        /// The bench file (.bench.ron).
+        /// The bench file (.bench.ron) or drawer file (.drawer.ron, told by its name).
         file: PathBuf,
+    },
+    /// The drawer, the stock of parts: print the built-in starter drawer, or list a drawer file's items.
+    Drawer {
+        #[command(subcommand)]
+        action: DrawerAction,
     },
     /// List the built-in demo benches, or print one: `lumenrail demos NAME > my.bench.ron`.
     Demos {
@@ -84,6 +89,17 @@ enum Command {
     },
 }
 
+#[derive(Subcommand)]
+enum DrawerAction {
+    /// Print the built-in starter drawer: `lumenrail drawer starter > my.drawer.ron`.
+    Starter,
+    /// List a drawer's items, one a line: label, kind, focal length at 587.6 nm, diameter, quantity.
+    List {
+        /// The drawer file (.drawer.ron).
+        file: PathBuf,
+    },
+}
+
 fn main() -> ExitCode {
     let cli = Cli::parse();
     match cli.command {
@@ -100,7 +116,13 @@ fn main() -> ExitCode {
             }
         },
         Some(Command::Report { file, json }) => report(&file, json),
+        Some(Command::Check { file }) if is_drawer(&file) => check_drawer(&file),
         Some(Command::Check { file }) => check(&file),
+        Some(Command::Drawer { action: DrawerAction::Starter }) => {
+            print!("{}", drawer::to_text(&drawer::starter()));
+            ExitCode::SUCCESS
+        }
+        Some(Command::Drawer { action: DrawerAction::List { file } }) => drawer_list(&file),
         Some(Command::Demos { name }) => demos_cmd(name.as_deref()),
         Some(Command::Export { file, view, svg, png, text, size, .. }) if view == "rail" => {
             export_rail(&file, RailOutputs { svg: svg.as_deref(), png: png.as_deref(), text: text.as_deref() }, size)
@@ -292,6 +314,58 @@ fn check(path: &Path) -> ExitCode {
             ExitCode::from(2)
         }
     }
+}
+
+/// Whether `path` names a drawer file (by its extension).
+fn is_drawer(path: &Path) -> bool {
+    path.file_name().is_some_and(|n| n.to_string_lossy().ends_with(drawer::EXTENSION))
+}
+
+/// Loads a drawer, printing its warnings, or its errors and `None`.
+fn load_drawer(path: &Path) -> Option<drawer::LoadedDrawer> {
+    match drawer::load(path) {
+        Ok(l) => {
+            print_diagnostics(&l.warnings);
+            Some(l)
+        }
+        Err(e) => {
+            print_diagnostics(&e.diagnostics);
+            None
+        }
+    }
+}
+
+fn check_drawer(path: &Path) -> ExitCode {
+    let Some(l) = load_drawer(path) else {
+        return ExitCode::from(2);
+    };
+    println!("{}: valid ({} items, {} warnings)", path.display(), l.drawer.items.len(), l.warnings.len());
+    ExitCode::SUCCESS
+}
+
+/// `lumenrail drawer list FILE`: one line per item.
+fn drawer_list(path: &Path) -> ExitCode {
+    let Some(l) = load_drawer(path) else {
+        return ExitCode::from(2);
+    };
+    let items = &l.drawer.items;
+    let label_width = items.iter().map(|i| i.label.chars().count()).max().unwrap_or(0);
+    let mut out = std::io::stdout().lock();
+    for item in items {
+        let focal = match item.focal_mm(lumenrail_optics::material::D_LINE_NM) {
+            Some(f) => format!("f {f:>9.3} mm"),
+            None => format!("f {:>9}   ", "none"),
+        };
+        let _ = writeln!(
+            out,
+            "{:<label_width$}  {:<9}  {focal}  diameter {:>5} mm  quantity {}",
+            item.label,
+            item.kind_word(),
+            item.mechanical_diameter_mm,
+            item.quantity
+        );
+    }
+    ExitCode::SUCCESS
 }
 
 fn demos_cmd(name: Option<&str>) -> ExitCode {

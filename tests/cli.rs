@@ -391,3 +391,71 @@ fn export_rail_writes_the_drawing_and_the_readout() {
     assert_eq!(o.status.code(), Some(2), "a size that is not WxH");
     assert!(stderr(&o).contains("WIDTHxHEIGHT"), "{}", stderr(&o));
 }
+
+/// The starter drawer as `lumenrail drawer starter` prints it.
+fn starter_drawer() -> String {
+    let o = run(&["drawer", "starter"]);
+    assert!(o.status.success(), "{}", stderr(&o));
+    String::from_utf8(o.stdout).unwrap()
+}
+
+#[test]
+fn drawer_starter_prints_the_asset_and_check_accepts_it() {
+    let text = starter_drawer();
+    let asset = Path::new(env!("CARGO_MANIFEST_DIR")).join("assets/drawers/starter.drawer.ron");
+    assert_eq!(text, std::fs::read_to_string(&asset).unwrap());
+    for p in [asset, write("mine.drawer.ron", &text)] {
+        let o = run(&["check", p.to_str().unwrap()]);
+        assert_eq!(o.status.code(), Some(0), "{}", stderr(&o));
+        let out = String::from_utf8(o.stdout).unwrap();
+        assert!(out.contains("valid (") && out.contains(" items, 0 warnings)"), "{out}");
+    }
+}
+
+#[test]
+fn drawer_list_prints_one_line_per_item() {
+    let text = starter_drawer();
+    let items = text.lines().filter(|l| l.trim_start().starts_with("(label:")).count();
+    let p = write("list.drawer.ron", &text);
+    let o = run(&["drawer", "list", p.to_str().unwrap()]);
+    assert!(o.status.success(), "{}", stderr(&o));
+    let out = String::from_utf8(o.stdout).unwrap();
+    assert_eq!(out.lines().count(), items);
+    let line = out.lines().find(|l| l.starts_with("plano-convex 25.4 f100 ")).expect("the f100 plano-convex");
+    for w in ["singlet", "f   100.000 mm", "diameter  25.4 mm", "quantity 3"] {
+        assert!(line.contains(w), "{w:?} in {line}");
+    }
+    let iris = out.lines().find(|l| l.starts_with("iris 25.4 ")).unwrap();
+    assert!(iris.contains("iris") && iris.contains("none") && iris.contains("quantity 2"), "{iris}");
+}
+
+#[test]
+fn bad_drawers_exit_2_with_the_place() {
+    let text = starter_drawer();
+    let line_of = |needle: &str| text.lines().position(|l| l.contains(needle)).unwrap() + 1;
+    // A zero quantity, at the item's line.
+    let bad =
+        text.replacen("(label: \"achromat 25.4 f100\", quantity: 3", "(label: \"achromat 25.4 f100\", quantity: 0", 1);
+    let p = write("zero.drawer.ron", bad);
+    for args in [vec!["check"], vec!["drawer", "list"]] {
+        let mut a = args.clone();
+        a.push(p.to_str().unwrap());
+        let o = run(&a);
+        let err = stderr(&o);
+        assert_eq!(o.status.code(), Some(2), "{a:?}: {err}");
+        let place = format!("{}:{}:", p.display(), line_of("achromat 25.4 f100"));
+        assert!(err.starts_with(&place) && err.contains("quantity is 0"), "{err}");
+        assert!(o.stdout.is_empty());
+    }
+    // A newer format, and a bench handed over as a drawer.
+    let p = write("newer.drawer.ron", text.replacen("format: 1", "format: 3", 1));
+    let err = stderr(&run(&["check", p.to_str().unwrap()]));
+    assert!(err.starts_with(&format!("{}:2:5:", p.display())) && err.contains("this drawer is format 3"), "{err}");
+    let p = write("bench.drawer.ron", demo("one-lens-screen"));
+    let o = run(&["check", p.to_str().unwrap()]);
+    assert_eq!(o.status.code(), Some(2));
+    assert!(stderr(&o).contains("unknown field `rail_length_mm`"), "{}", stderr(&o));
+    let o = run(&["drawer", "list", scratch("missing.drawer.ron").to_str().unwrap()]);
+    assert_eq!(o.status.code(), Some(2));
+    assert!(stderr(&o).contains("no such file"));
+}

@@ -197,7 +197,7 @@ fn rail_fans(traced: &Traced) -> Vec<RailFan> {
 }
 
 /// The first-order figures of part `index` alone in air: its surfaces' first run in the sequence.
-fn part_first_order(seq: &Sequence, index: usize) -> Option<FirstOrder> {
+pub(crate) fn part_first_order(seq: &Sequence, index: usize) -> Option<FirstOrder> {
     let start = seq.steps.iter().position(|s| s.element == index)?;
     let len = seq.steps[start..].iter().take_while(|s| s.element == index).count();
     let alone = Sequence {

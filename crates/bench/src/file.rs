@@ -75,7 +75,8 @@ pub struct Loaded {
     pub warnings: Vec<Diagnostic>,
 }
 
-fn at_start(file: &str, message: String) -> LoadError {
+/// One error placed at the start of the file.
+pub(crate) fn at_start(file: &str, message: String) -> LoadError {
     LoadError {
         diagnostics: vec![Diagnostic {
             file: file.into(),
@@ -88,17 +89,24 @@ fn at_start(file: &str, message: String) -> LoadError {
 
 /// Reads and validates the bench file at `path`.
 pub fn load(path: &Path) -> Result<Loaded, LoadError> {
+    let (name, text) = read_text(path, "bench")?;
+    parse_text(&name, &text)
+}
+
+/// Reads the text of a file of ours (a `noun` file: "bench", "drawer"): checks its size, skips a byte-order
+/// mark and checks UTF-8. Returns the file's name for messages and its text.
+pub(crate) fn read_text(path: &Path, noun: &str) -> Result<(String, String), LoadError> {
     let name = path.display().to_string();
     let meta =
         std::fs::metadata(path).map_err(|e| at_start(&name, format!("cannot read the file: {}", io_words(&e))))?;
     if meta.is_dir() {
-        return Err(at_start(&name, "this is a directory, not a bench file".into()));
+        return Err(at_start(&name, format!("this is a directory, not a {noun} file")));
     }
     if meta.len() > MAX_FILE_BYTES {
         return Err(at_start(
             &name,
             format!(
-                "the file is {} bytes; a bench file is at most {} bytes, so this is not one",
+                "the file is {} bytes; a {noun} file is at most {} bytes, so this is not one",
                 meta.len(),
                 MAX_FILE_BYTES
             ),
@@ -121,16 +129,16 @@ pub fn load(path: &Path) -> Result<Loaded, LoadError> {
                     file: name,
                     place,
                     severity: Severity::Error,
-                    message: "the file is not UTF-8 text here (a bench file is plain text)".into(),
+                    message: format!("the file is not UTF-8 text here (a {noun} file is plain text)"),
                 }],
             });
         }
     };
-    parse_text(&name, &text)
+    Ok((name, text))
 }
 
 /// The UTF-8 byte-order mark (EF BB BF) that some editors put at the start of a text file.
-const BOM: &str = "\u{feff}";
+pub(crate) const BOM: &str = "\u{feff}";
 
 /// Parses and validates bench text; `file` names it in messages. A byte-order mark at the start is
 /// skipped, and lines and columns are counted in the text after it.
@@ -143,38 +151,65 @@ fn parse_text(file: &str, text: &str) -> Result<Loaded, LoadError> {
     if text.trim().is_empty() {
         return Err(at_start(file, "the file is empty; a bench file starts with `(` and holds format, title, rail_length_mm, wavelengths_nm, primary_wavelength, object and parts".into()));
     }
-    // Refuse another format before reading anything else, so that new fields are never misread. The
-    // number is read straight from the text, so that a newer file's unknown syntax cannot hide it.
     let locator = Locator::new(text);
+    check_format(file, text, &locator, "bench", FORMAT)?;
+    let bench: Bench = from_ron(file, text, "bench")?;
+    let findings = validate(&bench);
+    let diagnostics = placed(file, &findings, |f| locator.finding(&bench, f))?;
+    Ok(Loaded { bench, warnings: diagnostics })
+}
+
+/// Refuses a `noun` file whose `format` is not `known`, before anything else is read, so that new fields
+/// are never misread. The number is read straight from the text, so that a newer file's unknown syntax
+/// cannot hide it.
+pub(crate) fn check_format(
+    file: &str,
+    text: &str,
+    locator: &Locator<'_>,
+    noun: &str,
+    known: u32,
+) -> Result<(), LoadError> {
     if let Some(offset) = locator.key_offset(0, text.len(), "format") {
         let after = text[offset + "format".len()..].trim_start().trim_start_matches(':').trim_start();
         let digits: String = after.chars().take_while(|c| c.is_ascii_digit()).collect();
         if let Ok(f) = digits.parse::<u64>()
-            && f != u64::from(FORMAT)
+            && f != u64::from(known)
         {
             let place = place_of_offset(text, offset);
-            let message = if f > u64::from(FORMAT) {
+            let message = if f > u64::from(known) {
                 format!(
-                    "this bench is format {f}, newer than this Lumenrail reads (format {FORMAT}); open it with a newer Lumenrail"
+                    "this {noun} is format {f}, newer than this Lumenrail reads (format {known}); open it with a newer Lumenrail"
                 )
             } else {
-                format!("format {f} is not a bench format (this Lumenrail reads format {FORMAT})")
+                format!("format {f} is not a {noun} format (this Lumenrail reads format {known})")
             };
             return Err(LoadError {
                 diagnostics: vec![Diagnostic { file: file.into(), place, severity: Severity::Error, message }],
             });
         }
     }
-    let bench: Bench = ron::Options::default().with_recursion_limit(64).from_str(text).map_err(|e| LoadError {
+    Ok(())
+}
+
+/// Parses RON text with unknown fields refused, the error placed and said in plain words.
+pub(crate) fn from_ron<T: serde::de::DeserializeOwned>(file: &str, text: &str, noun: &str) -> Result<T, LoadError> {
+    ron::Options::default().with_recursion_limit(64).from_str(text).map_err(|e| LoadError {
         diagnostics: vec![Diagnostic {
             file: file.into(),
             place: Place { line: e.position.line.max(1), col: e.position.col.max(1) },
             severity: Severity::Error,
-            message: ron_words(&e.code),
+            message: ron_words(&e.code, noun),
         }],
-    })?;
-    let findings = validate(&bench);
-    let place = |f: &Finding| locator.finding(&bench, f);
+    })
+}
+
+/// Validation findings placed in the file: the warnings, or every finding as a [`LoadError`] when any is
+/// an error.
+pub(crate) fn placed(
+    file: &str,
+    findings: &[Finding],
+    place: impl Fn(&Finding) -> Place,
+) -> Result<Vec<Diagnostic>, LoadError> {
     let diagnostics: Vec<Diagnostic> = findings
         .iter()
         .map(|f| Diagnostic { file: file.into(), place: place(f), severity: f.severity, message: f.message.clone() })
@@ -182,7 +217,7 @@ fn parse_text(file: &str, text: &str) -> Result<Loaded, LoadError> {
     if diagnostics.iter().any(|d| d.severity == Severity::Error) {
         return Err(LoadError { diagnostics });
     }
-    Ok(Loaded { bench, warnings: diagnostics })
+    Ok(diagnostics)
 }
 
 /// Plain words for an I/O error.
@@ -195,7 +230,7 @@ fn io_words(e: &std::io::Error) -> String {
 }
 
 /// Plain words for a RON error.
-fn ron_words(e: &ron::Error) -> String {
+fn ron_words(e: &ron::Error, noun: &str) -> String {
     use ron::Error as E;
     match e {
         E::Eof => "the file ends too soon (a bracket or a field is missing)".into(),
@@ -213,28 +248,29 @@ fn ron_words(e: &ron::Error) -> String {
             None => format!("the field `{field}` is missing"),
         },
         E::DuplicateStructField { field, .. } => format!("the field `{field}` is given twice"),
-        E::ExceededRecursionLimit => "the file is nested too deeply to be a bench".into(),
+        E::ExceededRecursionLimit => format!("the file is nested too deeply to be a {noun}"),
         other => format!("{other}"),
     }
 }
 
 /// Converts a byte offset in `text` to a line and column.
-fn place_of_offset(text: &str, offset: usize) -> Place {
+pub(crate) fn place_of_offset(text: &str, offset: usize) -> Place {
     let before = &text[..offset.min(text.len())];
     let line = before.matches('\n').count() + 1;
     let col = before.rsplit('\n').next().map_or(0, |l| l.chars().count()) + 1;
     Place { line, col }
 }
 
-/// Finds where things are in bench text: keys outside strings and comments, and each part by its name.
-struct Locator<'a> {
+/// Finds where things are in bench (or drawer) text: keys outside strings and comments, and each part by
+/// its name (each drawer item by its place in the list).
+pub(crate) struct Locator<'a> {
     text: &'a str,
     /// Byte offsets of code (not in strings or comments) as a mask.
     code: Vec<bool>,
 }
 
 impl<'a> Locator<'a> {
-    fn new(text: &'a str) -> Locator<'a> {
+    pub(crate) fn new(text: &'a str) -> Locator<'a> {
         let b = text.as_bytes();
         let mut code = vec![true; b.len()];
         let mut i = 0;
@@ -265,7 +301,7 @@ impl<'a> Locator<'a> {
     }
 
     /// Byte offset of `key` followed by `:` in code within `[from, to)`.
-    fn key_offset(&self, from: usize, to: usize, key: &str) -> Option<usize> {
+    pub(crate) fn key_offset(&self, from: usize, to: usize, key: &str) -> Option<usize> {
         let b = self.text.as_bytes();
         let mut start = from;
         while let Some(k) = self.text.get(start..to).and_then(|s| s.find(key)) {
@@ -289,13 +325,7 @@ impl<'a> Locator<'a> {
     /// Byte span of the part with this name (its `name:` key up to the next part's `name:` key), taking
     /// the `nth` such part for duplicate names.
     fn part_span(&self, name: &str, nth: usize) -> Option<(usize, usize)> {
-        let parts = self.key_offset(0, self.text.len(), "parts").unwrap_or(0);
-        let mut starts = Vec::new();
-        let mut from = parts;
-        while let Some(at) = self.key_offset(from, self.text.len(), "name") {
-            starts.push(at);
-            from = at + 4;
-        }
+        let starts = self.item_keys("parts", "name");
         let quoted = format!("\"{name}\"");
         let mut seen = 0;
         for (k, &at) in starts.iter().enumerate() {
@@ -313,15 +343,43 @@ impl<'a> Locator<'a> {
         None
     }
 
+    /// Byte offsets of every `item_key:` key after the `list_key:` key (each item of that list names
+    /// itself by one such key).
+    fn item_keys(&self, list_key: &str, item_key: &str) -> Vec<usize> {
+        let list = self.key_offset(0, self.text.len(), list_key).unwrap_or(0);
+        let mut starts = Vec::new();
+        let mut from = list;
+        while let Some(at) = self.key_offset(from, self.text.len(), item_key) {
+            starts.push(at);
+            from = at + item_key.len();
+        }
+        starts
+    }
+
+    /// Byte span of the `n`th item (from 0) of the list after `list_key:`, each item found by its
+    /// `item_key:` key: from the item's `(` up to the next item's key.
+    pub(crate) fn nth_item_span(&self, list_key: &str, item_key: &str, n: usize) -> Option<(usize, usize)> {
+        let starts = self.item_keys(list_key, item_key);
+        let at = *starts.get(n)?;
+        let end = starts.get(n + 1).copied().unwrap_or(self.text.len());
+        Some((self.text[..at].rfind('(').unwrap_or(at), end))
+    }
+
     fn finding(&self, bench: &Bench, f: &Finding) -> Place {
-        let whole = (0, self.text.len());
         let span = f.part.and_then(|i| {
             let name = &bench.parts[i].name;
             let nth = bench.parts[..i].iter().filter(|p| &p.name == name).count();
             self.part_span(name, nth)
         });
+        self.place_in(span, f.field)
+    }
+
+    /// The place of `field`'s key within `span` (the whole text when `None`), else the span's start, else
+    /// the file's start.
+    pub(crate) fn place_in(&self, span: Option<(usize, usize)>, field: Option<&str>) -> Place {
+        let whole = (0, self.text.len());
         let (from, to) = span.unwrap_or(whole);
-        let field_place = f.field.and_then(|k| self.key(from, to, k));
+        let field_place = field.and_then(|k| self.key(from, to, k));
         field_place.or_else(|| span.map(|(s, _)| place_of_offset(self.text, s))).unwrap_or(Place { line: 1, col: 1 })
     }
 }
@@ -356,7 +414,7 @@ pub fn to_text(bench: &Bench) -> String {
 }
 
 /// A value as one line of RON with a space after each separator.
-fn one_line<T: serde::Serialize>(value: &T) -> String {
+pub(crate) fn one_line<T: serde::Serialize>(value: &T) -> String {
     let config = ron::ser::PrettyConfig::new().depth_limit(0).separator(" ").struct_names(false);
     ron::ser::to_string_pretty(value, config).expect("bench values always serialise")
 }

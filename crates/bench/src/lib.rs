@@ -11,6 +11,7 @@
 pub mod aims;
 pub mod compile;
 pub mod demos;
+pub mod drawer;
 pub mod evaluation;
 pub mod file;
 pub mod model;

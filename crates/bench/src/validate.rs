@@ -18,7 +18,8 @@ pub enum Severity {
 pub struct Finding {
     /// Error or warning.
     pub severity: Severity,
-    /// Index of the part concerned, in `bench.parts` (`None`: the bench as a whole).
+    /// Index of the part concerned, in `bench.parts` (`None`: the bench as a whole); for a drawer, the
+    /// item's index in `drawer.items`.
     pub part: Option<usize>,
     /// The field concerned, as spelled in the file.
     pub field: Option<&'static str>,
@@ -32,7 +33,10 @@ pub const MAX_PARTS: usize = 500;
 pub const MAX_WAVELENGTHS: usize = 32;
 
 struct Checker<'a> {
-    bench: &'a Bench,
+    /// Each part's kind word and name, by index, for messages.
+    names: Vec<(&'static str, &'a str)>,
+    /// The wavelengths at which every material must have an index, nm.
+    wavelengths_nm: &'a [f64],
     findings: Vec<Finding>,
 }
 
@@ -46,8 +50,8 @@ impl Checker<'_> {
     }
 
     fn who(&self, i: usize) -> String {
-        let p = &self.bench.parts[i];
-        format!("{} \"{}\"", p.kind.word(), p.name)
+        let (word, name) = self.names[i];
+        format!("{word} \"{name}\"")
     }
 
     /// A length that must be finite and positive.
@@ -112,7 +116,7 @@ impl Checker<'_> {
                     self.error(Some(i), field, format!("{who}: {e}"));
                     return;
                 }
-                for &wl in &self.bench.wavelengths_nm {
+                for &wl in self.wavelengths_nm {
                     if wl.is_finite()
                         && wl > 0.0
                         && let Err(e) = material.index_at(wl)
@@ -122,6 +126,50 @@ impl Checker<'_> {
                     }
                 }
             }
+        }
+    }
+
+    /// The numbers of part `i`'s own kind: diameter, focal length, radii, thicknesses, edge thickness and
+    /// materials (not its place on the rail).
+    fn kind(&mut self, i: usize, kind: &PartKind) {
+        let who = self.who(i);
+        let d_ok = self.positive(Some(i), "diameter_mm", "the diameter", kind.diameter_mm());
+        let semi = if d_ok { 0.5 * kind.diameter_mm() } else { f64::NAN };
+        match kind {
+            PartKind::ThinLens { focal_mm, .. } => {
+                if !focal_mm.is_finite() || *focal_mm == 0.0 {
+                    self.error(
+                        Some(i),
+                        "focal_mm",
+                        format!("{who}: focal length {focal_mm} mm must be a finite, non-zero number"),
+                    );
+                }
+            }
+            PartKind::Singlet { front, back, thickness_mm, material, .. } => {
+                let t_ok = self.positive(Some(i), "thickness_mm", "the centre thickness", *thickness_mm);
+                let f_ok = self.surface(i, "front", front, semi);
+                let b_ok = self.surface(i, "back", back, semi);
+                self.material(i, "material", material);
+                if t_ok && f_ok && b_ok && d_ok {
+                    edge_check(self, i, &[*front, *back], &[*thickness_mm], semi);
+                }
+            }
+            PartKind::Doublet { front, middle, back, thickness1_mm, thickness2_mm, material1, material2, .. } => {
+                let t1 = self.positive(Some(i), "thickness1_mm", "the first centre thickness", *thickness1_mm);
+                let t2 = self.positive(Some(i), "thickness2_mm", "the second centre thickness", *thickness2_mm);
+                let s_ok = self.surface(i, "front", front, semi)
+                    & self.surface(i, "middle", middle, semi)
+                    & self.surface(i, "back", back, semi);
+                self.material(i, "material1", material1);
+                self.material(i, "material2", material2);
+                if t1 && t2 && s_ok && d_ok {
+                    edge_check(self, i, &[*front, *middle, *back], &[*thickness1_mm, *thickness2_mm], semi);
+                }
+            }
+            PartKind::Mirror { surface, .. } => {
+                self.surface(i, "surface", surface, semi);
+            }
+            PartKind::Iris { .. } | PartKind::Screen { .. } => {}
         }
     }
 
@@ -141,7 +189,11 @@ impl Checker<'_> {
 
 /// Validates `bench`; returns every finding, errors first.
 pub fn validate(bench: &Bench) -> Vec<Finding> {
-    let mut c = Checker { bench, findings: Vec::new() };
+    let mut c = Checker {
+        names: bench.parts.iter().map(|p| (p.kind.word(), p.name.as_str())).collect(),
+        wavelengths_nm: &bench.wavelengths_nm,
+        findings: Vec::new(),
+    };
     if bench.format != crate::model::FORMAT {
         c.error(
             None,
@@ -243,44 +295,7 @@ pub fn validate(bench: &Bench) -> Vec<Finding> {
             c.error(Some(i), "at_mm", format!("{who}: position {} mm must be a finite number", p.at_mm));
             continue;
         }
-        let d_ok = c.positive(Some(i), "diameter_mm", "the diameter", p.kind.diameter_mm());
-        let semi = if d_ok { 0.5 * p.kind.diameter_mm() } else { f64::NAN };
-        match &p.kind {
-            PartKind::ThinLens { focal_mm, .. } => {
-                if !focal_mm.is_finite() || *focal_mm == 0.0 {
-                    c.error(
-                        Some(i),
-                        "focal_mm",
-                        format!("{who}: focal length {focal_mm} mm must be a finite, non-zero number"),
-                    );
-                }
-            }
-            PartKind::Singlet { front, back, thickness_mm, material, .. } => {
-                let t_ok = c.positive(Some(i), "thickness_mm", "the centre thickness", *thickness_mm);
-                let f_ok = c.surface(i, "front", front, semi);
-                let b_ok = c.surface(i, "back", back, semi);
-                c.material(i, "material", material);
-                if t_ok && f_ok && b_ok && d_ok {
-                    edge_check(&mut c, i, &[*front, *back], &[*thickness_mm], semi);
-                }
-            }
-            PartKind::Doublet { front, middle, back, thickness1_mm, thickness2_mm, material1, material2, .. } => {
-                let t1 = c.positive(Some(i), "thickness1_mm", "the first centre thickness", *thickness1_mm);
-                let t2 = c.positive(Some(i), "thickness2_mm", "the second centre thickness", *thickness2_mm);
-                let s_ok = c.surface(i, "front", front, semi)
-                    & c.surface(i, "middle", middle, semi)
-                    & c.surface(i, "back", back, semi);
-                c.material(i, "material1", material1);
-                c.material(i, "material2", material2);
-                if t1 && t2 && s_ok && d_ok {
-                    edge_check(&mut c, i, &[*front, *middle, *back], &[*thickness1_mm, *thickness2_mm], semi);
-                }
-            }
-            PartKind::Mirror { surface, .. } => {
-                c.surface(i, "surface", surface, semi);
-            }
-            PartKind::Iris { .. } | PartKind::Screen { .. } => {}
-        }
+        c.kind(i, &p.kind);
         if let Some(w) = p.carrier_mm
             && !(w.is_finite() && w >= 0.0)
         {
@@ -345,6 +360,22 @@ pub fn validate(bench: &Bench) -> Vec<Finding> {
     }
     aims(&mut c);
     c.findings.sort_by_key(|f| f.severity != Severity::Error);
+    c.findings
+}
+
+/// Checks each part kind's own numbers, as a bench's validation does: diameter, focal length, radii,
+/// thicknesses, edge thickness, and each material's index at `wavelengths_nm`. `parts` gives each kind with
+/// the name that messages call it by; a finding's `part` is the index in `parts`. (The drawer's validation
+/// uses this, so that a part in the drawer is checked exactly as the same part on a bench.)
+pub(crate) fn part_kinds(parts: &[(&str, &PartKind)], wavelengths_nm: &[f64]) -> Vec<Finding> {
+    let mut c = Checker {
+        names: parts.iter().map(|(name, kind)| (kind.word(), *name)).collect(),
+        wavelengths_nm,
+        findings: Vec::new(),
+    };
+    for (i, (_, kind)) in parts.iter().enumerate() {
+        c.kind(i, kind);
+    }
     c.findings
 }
 
