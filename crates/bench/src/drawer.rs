@@ -137,8 +137,16 @@ impl DrawerItem {
             rail_length_mm: 1.0 + self.part.thickness_mm().abs(),
             wavelengths_nm: vec![wavelength_nm],
             primary_wavelength: 0,
+            wavelength_weights: Vec::new(),
             object: ObjectSpec::Distant { field_deg: 0.0, beam_diameter_mm: self.part.diameter_mm() },
-            parts: vec![Part { name: self.label.clone(), at_mm: 0.0, kind: self.part.clone(), carrier_mm: None }],
+            parts: vec![Part {
+                name: self.label.clone(),
+                at_mm: 0.0,
+                kind: self.part.clone(),
+                carrier_mm: None,
+                from_drawer: None,
+            }],
+            aims: Vec::new(),
         };
         let compiled = compile::compile(&bench).ok()?;
         let seq = compiled.system.at(wavelength_nm).ok()?;

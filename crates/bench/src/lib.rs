@@ -9,6 +9,7 @@
 //! ```
 
 pub mod aims;
+pub mod arrange;
 pub mod compile;
 pub mod demos;
 pub mod drawer;

@@ -358,7 +358,7 @@ pub fn validate(bench: &Bench) -> Vec<Finding> {
             }
         }
     }
-    aims(&mut c);
+    aims(&mut c, bench);
     c.findings.sort_by_key(|f| f.severity != Severity::Error);
     c.findings
 }
@@ -406,9 +406,8 @@ fn edge_check(c: &mut Checker<'_>, i: usize, surfaces: &[SurfaceSpec], thickness
 }
 
 /// Each aim's numbers must make sense, and a screen it names must be on the bench.
-fn aims(c: &mut Checker<'_>) {
+fn aims(c: &mut Checker<'_>, bench: &Bench) {
     use crate::model::Aim;
-    let bench = c.bench;
     for (k, aim) in bench.aims.iter().enumerate() {
         let n = k + 1;
         let mut need = |ok: bool, what: String| {
