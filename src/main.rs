@@ -46,6 +46,27 @@ enum Command {
         #[command(subcommand)]
         action: DrawerAction,
     },
+    /// Search a drawer for lenses, placed on the bench's rail, that meet the bench's aims; ranked. Exits
+    /// 1 (with the nearest misses) when no arrangement meets every aim.
+    Arrange {
+        /// The bench file (.bench.ron), with its aims.
+        file: PathBuf,
+        /// The drawer file (.drawer.ron), or `starter` for the built-in starter drawer.
+        #[arg(long, value_name = "FILE")]
+        drawer: PathBuf,
+        /// How many lenses to place: `N` or `A-B`, from 1 to 3.
+        #[arg(long, default_value = "1-2", value_parser = parse_parts)]
+        parts: (usize, usize),
+        /// How many ranked arrangements to show.
+        #[arg(long, default_value_t = 5)]
+        top: usize,
+        /// Print the ranking as JSON.
+        #[arg(long)]
+        json: bool,
+        /// Write the bench with the best arrangement placed to this file.
+        #[arg(long, value_name = "OUT.bench.ron")]
+        write: Option<PathBuf>,
+    },
     /// List the built-in demo benches, or print one: `lumenrail demos NAME > my.bench.ron`.
     Demos {
         /// The demo to print.
@@ -124,6 +145,9 @@ fn main() -> ExitCode {
         }
         Some(Command::Drawer { action: DrawerAction::List { file } }) => drawer_list(&file),
         Some(Command::Demos { name }) => demos_cmd(name.as_deref()),
+        Some(Command::Arrange { file, drawer, parts, top, json, write }) => {
+            arrange_cmd(&file, &drawer, parts, top, json, write.as_deref())
+        }
         Some(Command::Export { file, view, svg, png, text, size, .. }) if view == "rail" => {
             export_rail(&file, RailOutputs { svg: svg.as_deref(), png: png.as_deref(), text: text.as_deref() }, size)
         }
@@ -390,4 +414,84 @@ fn demos_cmd(name: Option<&str>) -> ExitCode {
             }
         },
     }
+}
+
+/// `N` or `A-B` lenses, each from 1 to 3.
+fn parse_parts(text: &str) -> Result<(usize, usize), String> {
+    let (a, b) = text.split_once('-').unwrap_or((text, text));
+    let n = |t: &str| t.trim().parse::<usize>().ok().filter(|n| (1..=3).contains(n));
+    match (n(a), n(b)) {
+        (Some(a), Some(b)) if a <= b => Ok((a, b)),
+        _ => Err(format!("`{text}` is not 1, 2, 3 or a range such as 1-3")),
+    }
+}
+
+/// `lumenrail arrange BENCH --drawer FILE`: the ranked arrangements; exit 1 when none meets every aim.
+fn arrange_cmd(
+    path: &Path,
+    drawer_path: &Path,
+    parts: (usize, usize),
+    top: usize,
+    json: bool,
+    write: Option<&Path>,
+) -> ExitCode {
+    use lumenrail_bench::arrange::{Options, Progress, apply, arrange};
+    let Some(loaded) = load(path) else {
+        return ExitCode::from(2);
+    };
+    let drawer = if drawer_path == Path::new("starter") {
+        drawer::starter()
+    } else {
+        match load_drawer(drawer_path) {
+            Some(d) => d.drawer,
+            None => return ExitCode::from(2),
+        }
+    };
+    let options = Options { min_parts: parts.0, max_parts: parts.1, top: top.max(1), ..Options::default() };
+    let found = match arrange(&loaded.bench, &drawer, &options, &Progress::default()) {
+        Ok(f) => f,
+        Err(e) => {
+            eprintln!("{}: {e}", path.display());
+            return ExitCode::from(2);
+        }
+    };
+    let best_meets = found.candidates.first().is_some_and(|c| c.meets_all());
+    if json {
+        println!("{}", serde_json::to_string_pretty(&found).expect("the ranking serialises"));
+    } else {
+        let heading = if best_meets {
+            "Arrangements that meet every aim first"
+        } else {
+            "No arrangement meets every aim; the nearest misses"
+        };
+        println!("{heading} ({} choices of lenses, {} traced exactly)", found.combinations, found.traced);
+        for (k, c) in found.candidates.iter().enumerate() {
+            let placed: Vec<String> = c
+                .parts
+                .iter()
+                .map(|p| format!("\"{}\"{} at {:.3} mm", p.label, if p.turned { " turned round" } else { "" }, p.at_mm))
+                .collect();
+            let rms = c.rms_on_axis_um.map_or_else(|| "—".to_string(), |r| format!("{r:.2} µm"));
+            let len = c.total_length_mm.map_or_else(|| "—".to_string(), |l| format!("{l:.1} mm"));
+            println!(
+                "\n{}. {} ({} of {} aims met; RMS on axis {rms}; length {len})",
+                k + 1,
+                placed.join(", "),
+                c.met,
+                c.aims.len()
+            );
+            for a in &c.aims {
+                println!("   {}", a.line());
+            }
+        }
+    }
+    if let (Some(out), Some(best)) = (write, found.candidates.first()) {
+        let bench = apply(&loaded.bench, &drawer, best);
+        if let Err(e) = file::save(&bench, out) {
+            eprintln!("lumenrail arrange: {e}");
+            return ExitCode::from(2);
+        }
+        eprintln!("wrote {}", out.display());
+    }
+    if best_meets { ExitCode::SUCCESS } else { ExitCode::from(1) }
 }

@@ -459,3 +459,50 @@ fn bad_drawers_exit_2_with_the_place() {
     assert_eq!(o.status.code(), Some(2));
     assert!(stderr(&o).contains("no such file"));
 }
+
+/// `lumenrail arrange BENCH --drawer FILE`: the f = 100 mm thin lens halfway between object and screen
+/// for m = −1 over 400 mm (Gaussian imaging), as text, as JSON, and written as a bench that reports the
+/// aims met; an impossible aim exits 1 with the nearest misses; the report gains an `aims` key.
+#[test]
+fn arrange_places_the_drawer_lens_that_meets_the_aims() {
+    let bench = write(
+        "aims.bench.ron",
+        r#"(format: 1, title: "aims", rail_length_mm: 500.0, wavelengths_nm: [587.5618], primary_wavelength: 0,
+            object: Point(at_mm: 0.0, height_mm: 1.0), parts: [(name: "Screen", at_mm: 400.0, kind: Screen(diameter_mm: 40.0))],
+            aims: [SharpOn(screen: "Screen", rms_um: 1.0), Magnification(value: -1.0, tolerance: 0.001)])"#,
+    );
+    let drawer = write(
+        "small.drawer.ron",
+        r#"(format: 1, title: "small", items: [
+            (label: "f50", quantity: 1, mechanical_diameter_mm: 25.4, part: ThinLens(focal_mm: 50.0, diameter_mm: 22.0)),
+            (label: "f100", quantity: 1, mechanical_diameter_mm: 25.4, part: ThinLens(focal_mm: 100.0, diameter_mm: 22.0))])"#,
+    );
+    let out = scratch("arranged.bench.ron");
+    let args = ["arrange", bench.to_str().unwrap(), "--drawer", drawer.to_str().unwrap(), "--parts", "1"];
+    let o = run(&[&args[..], &["--write", out.to_str().unwrap()]].concat());
+    assert!(o.status.success(), "{}", stderr(&o));
+    let text = String::from_utf8_lossy(&o.stdout);
+    assert!(text.contains("1. \"f100\" at 200.000 mm (2 of 2 aims met"), "{text}");
+    let o = run(&["report", out.to_str().unwrap(), "--json"]);
+    let json: serde_json::Value = serde_json::from_slice(&o.stdout).unwrap();
+    assert_eq!(json["aims"].as_array().unwrap().len(), 2);
+    assert!(json["aims"].as_array().unwrap().iter().all(|a| a["met"] == true), "{}", json["aims"]);
+    let o = run(&[&args[..], &["--json"]].concat());
+    let json: serde_json::Value = serde_json::from_slice(&o.stdout).unwrap();
+    assert_eq!(json["candidates"][0]["parts"][0]["label"], "f100");
+    // m = −3 over 400 mm needs f = 75 mm: none in the drawer. Exit 1, the nearest misses listed.
+    let impossible =
+        write("impossible.bench.ron", std::fs::read_to_string(&bench).unwrap().replace("value: -1.0", "value: -3.0"));
+    let o = run(&["arrange", impossible.to_str().unwrap(), "--drawer", drawer.to_str().unwrap(), "--parts", "1"]);
+    assert_eq!(o.status.code(), Some(1), "{}", stderr(&o));
+    assert!(String::from_utf8_lossy(&o.stdout).contains("nearest misses"));
+    assert!(!stderr(&o).contains("panicked"));
+    // A bad drawer is placed like a bad bench.
+    let bad = write(
+        "bad.drawer.ron",
+        "(format: 1, title: \"x\", items: [(label: \"a\", quantity: 0, mechanical_diameter_mm: 25.4, part: ThinLens(focal_mm: 50.0, diameter_mm: 22.0))])",
+    );
+    let o = run(&["arrange", bench.to_str().unwrap(), "--drawer", bad.to_str().unwrap()]);
+    assert_eq!(o.status.code(), Some(2));
+    assert!(stderr(&o).contains("bad.drawer.ron:1:"), "{}", stderr(&o));
+}

@@ -308,6 +308,9 @@ impl Frame {
     }
 }
 
+/// How many of the sharpest refined arrangements are evaluated in full, at least.
+const FULLY_EVALUATED: usize = 40;
+
 /// Searches the drawer for arrangements of lenses on `bench` that meet its aims; see the module docs.
 pub fn arrange(
     bench: &Bench,
@@ -371,7 +374,7 @@ pub fn arrange(
     }
     progress.total.store(choices.len(), Ordering::Relaxed);
     progress.done.store(0, Ordering::Relaxed);
-    let found: Vec<(Vec<Candidate>, Option<NearMiss>)> = choices
+    let found: Vec<(Vec<Refined>, Option<NearMiss>)> = choices
         .par_iter()
         .map(|pick| {
             if progress.cancel.load(Ordering::Relaxed) {
@@ -384,8 +387,14 @@ pub fn arrange(
         .collect();
     let cancelled = progress.cancel.load(Ordering::Relaxed);
     let mut traced: usize = found.iter().map(|f| f.0.len()).sum();
-    let (candidates, nears): (Vec<Vec<Candidate>>, Vec<Option<NearMiss>>) = found.into_iter().unzip();
-    let mut all: Vec<Candidate> = candidates.into_iter().flatten().collect();
+    let (refined, nears): (Vec<Vec<Refined>>, Vec<Option<NearMiss>>) = found.into_iter().unzip();
+    // The sharpest by the cheap path are evaluated in full (a stable sort keeps the enumeration order
+    // among equals); the full evaluation then ranks them.
+    let mut refined: Vec<Refined> = refined.into_iter().flatten().collect();
+    refined.sort_by(|a, b| a.rms_mm.total_cmp(&b.rms_mm));
+    refined.truncate((4 * options.top).max(FULLY_EVALUATED));
+    let mut all: Vec<Candidate> =
+        refined.par_iter().filter_map(|r| exact(bench, drawer, &frame, &r.way, &r.xs)).collect();
     if !cancelled && !all.iter().any(Candidate::meets_all) {
         // Nothing meets the aims: trace the nearest first-order misses (enumeration order breaks ties).
         let mut nears: Vec<NearMiss> = nears.into_iter().flatten().collect();
@@ -481,7 +490,7 @@ fn search_choice(
     frame: &Frame,
     lenses: &[Vec<Lens>],
     pick: &[usize],
-) -> (Vec<Candidate>, Option<NearMiss>) {
+) -> (Vec<Refined>, Option<NearMiss>) {
     let mut ways: Vec<Vec<Lens>> = vec![Vec::new()];
     for &k in pick {
         ways = ways.into_iter().flat_map(|w| lenses[k].iter().map(move |l| [w.clone(), vec![*l]].concat())).collect();
@@ -492,8 +501,8 @@ fn search_choice(
         for xs in solve(frame, &way) {
             let Some(miss) = frame.paraxial_miss(&way, &xs) else { continue };
             if miss == 0.0 {
-                if let Some(c) = exact(bench, drawer, frame, &way, &xs) {
-                    out.push(c);
+                if let Some(r) = refine(bench, drawer, frame, &way, &xs) {
+                    out.push(r);
                 }
             } else if near.as_ref().is_none_or(|n| miss < n.miss) {
                 near = Some(NearMiss { miss, way: way.clone(), xs });
@@ -651,9 +660,17 @@ fn free_one(
     out
 }
 
-/// The arrangement traced exactly: the last lens refined to the least RMS spot on the target screen,
-/// then evaluated in full.
-fn exact(bench: &Bench, drawer: &Drawer, frame: &Frame, way: &[Lens], xs: &[f64]) -> Option<Candidate> {
+/// An arrangement refined on the exact trace by the cheap path, waiting for its full evaluation.
+#[derive(Debug, Clone)]
+struct Refined {
+    way: Vec<Lens>,
+    xs: Vec<f64>,
+    /// The on-axis RMS at the target screen by the cheap path, mm (infinite: none).
+    rms_mm: f64,
+}
+
+/// `bench` with the lenses of `way` at `xs`; the index of the first one added.
+fn with_lenses(bench: &Bench, drawer: &Drawer, way: &[Lens], xs: &[f64]) -> (Bench, usize) {
     let mut trial = bench.clone();
     let first_new = trial.parts.len();
     for (l, &x) in way.iter().zip(xs) {
@@ -662,10 +679,26 @@ fn exact(bench: &Bench, drawer: &Drawer, frame: &Frame, way: &[Lens], xs: &[f64]
         let name = fresh_name(&trial, &it.label);
         trial.parts.push(Part { name, at_mm: x, kind, carrier_mm: None, from_drawer: Some(it.label.clone()) });
     }
-    if let Some(screen) = frame.screen {
-        let eval = Evaluation::of(&trial);
-        if let Ok(mut placer) = Placer::new(&eval) {
-            placer.aim_at(screen);
+    (trial, first_new)
+}
+
+/// The arrangement traced exactly by the cheap path: the last lens refined by golden-section search to
+/// the least on-axis RMS spot on the target screen, within the magnification's tolerance.
+fn refine(bench: &Bench, drawer: &Drawer, frame: &Frame, way: &[Lens], xs: &[f64]) -> Option<Refined> {
+    let (trial, first_new) = with_lenses(bench, drawer, way, xs);
+    let mut placer = Placer::of_bench(&trial).ok()?;
+    let Some(screen) = frame.screen else {
+        return Some(Refined {
+            way: way.to_vec(),
+            xs: xs.to_vec(),
+            rms_mm: placer.figures().rms_mm.unwrap_or(f64::INFINITY),
+        });
+    };
+    placer.aim_at(screen);
+    let mut out_xs = xs.to_vec();
+    let best_rms;
+    {
+        {
             let k = first_new + way.len() - 1;
             let x0 = trial.parts[k].at_mm;
             let reach = 0.05 * way[way.len() - 1].f.abs() + 1.0;
@@ -687,13 +720,23 @@ fn exact(bench: &Bench, drawer: &Drawer, frame: &Frame, way: &[Lens], xs: &[f64]
                 }
                 figures.rms_mm.unwrap_or(f64::INFINITY)
             };
-            let best = golden(&mut rms, x0 - reach, x0 + reach, 1e-6);
+            let best = golden(&mut rms, x0 - reach, x0 + reach, 1e-5);
             // Kept only when it gains more than a picometre (a perfect image stays where first order puts it).
-            if rms(best) < rms(x0) - 1e-9 {
-                trial.parts[k].at_mm = best;
+            let (at_best, at_start) = (rms(best), rms(x0));
+            if at_best < at_start - 1e-9 {
+                *out_xs.last_mut().expect("one lens at least") = best;
+                best_rms = at_best;
+            } else {
+                best_rms = at_start;
             }
         }
     }
+    Some(Refined { way: way.to_vec(), xs: out_xs, rms_mm: best_rms })
+}
+
+/// The refined arrangement evaluated in full, once.
+fn exact(bench: &Bench, drawer: &Drawer, frame: &Frame, way: &[Lens], xs: &[f64]) -> Option<Candidate> {
+    let (trial, first_new) = with_lenses(bench, drawer, way, xs);
     let eval = Evaluation::of(&trial);
     let report = &eval.report;
     if report.trace_failure.is_some() {

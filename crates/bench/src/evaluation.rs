@@ -288,6 +288,33 @@ impl Placer {
         })
     }
 
+    /// The cheap path for `bench` straight from its compiled primary-wavelength sequence, for searches
+    /// that place parts many times: no analysis is run (the RMS spot uses 16 Gauss rings). Aims at the
+    /// last screen.
+    pub fn of_bench(bench: &Bench) -> Result<Placer, PlaceError> {
+        let compiled =
+            compile::compile(bench).map_err(|e| PlaceError::Untraced(format!("unknown material \"{}\"", e.name)))?;
+        let wavelength = bench.primary_wavelength_nm().ok_or_else(|| PlaceError::Untraced("no wavelength".into()))?;
+        let seq = compiled.system.at(wavelength).map_err(|e| PlaceError::Untraced(e.to_string()))?;
+        let mut surfaces_of = vec![Vec::new(); bench.parts.len()];
+        let mut offsets = Vec::with_capacity(seq.steps.len());
+        for (k, s) in seq.steps.iter().enumerate() {
+            surfaces_of[s.element].push(k);
+            offsets.push(s.z_mm - bench.parts[s.element].at_mm);
+        }
+        let target =
+            bench.rail_order().into_iter().filter(|&i| matches!(bench.parts[i].kind, PartKind::Screen { .. })).last();
+        Ok(Placer {
+            seq,
+            object: compiled.object,
+            at_mm: bench.parts.iter().map(|p| p.at_mm).collect(),
+            surfaces_of,
+            offsets,
+            target,
+            rings: 16,
+        })
+    }
+
     /// Takes the plane of part `index` (a screen) as the target plane of the RMS spot.
     pub fn aim_at(&mut self, index: usize) {
         self.target = Some(index).filter(|&i| i < self.at_mm.len());
