@@ -6,7 +6,7 @@
 use criterion::{Criterion, criterion_group, criterion_main};
 use lumenrail_bench::arrange::{Options, Progress, arrange};
 use lumenrail_bench::drawer::{Drawer, DrawerItem, starter};
-use lumenrail_bench::model::{Aim, Bench, PartKind};
+use lumenrail_bench::model::{Bench, PartKind};
 use std::hint::black_box;
 
 /// The starter drawer with thin lenses of ±40, 60, 80, 120, 160 and 240 mm: 60 items.

@@ -302,8 +302,7 @@ impl Placer {
             surfaces_of[s.element].push(k);
             offsets.push(s.z_mm - bench.parts[s.element].at_mm);
         }
-        let target =
-            bench.rail_order().into_iter().filter(|&i| matches!(bench.parts[i].kind, PartKind::Screen { .. })).last();
+        let target = bench.rail_order().into_iter().rfind(|&i| matches!(bench.parts[i].kind, PartKind::Screen { .. }));
         Ok(Placer {
             seq,
             object: compiled.object,
