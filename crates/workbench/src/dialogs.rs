@@ -75,6 +75,8 @@ impl Workbench {
                 PathPrompt::SaveAs => ("Save bench as", "Path of the .bench.ron file:", "Save"),
                 PathPrompt::Export(_, true) => ("Export view", "Path of the PNG picture:", "Export"),
                 PathPrompt::Export(_, false) => ("Export view", "Path of the CSV table:", "Export"),
+                PathPrompt::OpenDrawer => ("Open drawer", "Path of the .drawer.ron file:", "Open"),
+                PathPrompt::SaveDrawer => ("Save drawer as", "Path of the .drawer.ron file:", "Save"),
                 PathPrompt::Drawing => {
                     ("Export drawing", "Path of the drawing (.svg or .png; .txt for the readout):", "Export")
                 }
@@ -117,6 +119,8 @@ impl Workbench {
                     }
                     PathPrompt::Export(view, png) => self.export_view(view, png, &path),
                     PathPrompt::Drawing => self.export_drawing(&path),
+                    PathPrompt::OpenDrawer => self.open_drawer(path),
+                    PathPrompt::SaveDrawer => self.save_drawer(path),
                 };
             }
         }

@@ -32,6 +32,10 @@ pub enum Edit {
     Remove(usize),
     /// Change what is not a part: title, rail length, object and wavelengths (the parts stay).
     Settings(Box<BenchSettings>),
+    /// Replace the bench's aims.
+    Aims(Vec<lumenrail_bench::model::Aim>),
+    /// Add several parts at once (an arrangement).
+    AddParts(Vec<Part>),
 }
 
 /// Everything on a bench that is not a part: what the bench settings sheet edits.
@@ -109,6 +113,9 @@ impl Workbench {
             show_keys: false,
             path_prompt: None,
             drawing_size: "1200x520".into(),
+            drawer: crate::drawer::DrawerPanel::default(),
+            arranger: crate::arranger::ArrangerPanel::default(),
+            left: crate::LeftPage::default(),
             revision: 0,
             recent: Vec::new(),
             views: plots::ViewsPanel::default(),
@@ -134,7 +141,9 @@ impl Workbench {
     pub(crate) fn replace_document(&mut self, next: Workbench) {
         let (snap_mm, exaggeration, recent) = (self.snap_mm, self.exaggeration, std::mem::take(&mut self.recent));
         let (shown, tab, grid) = (self.views.shown, self.views.tab, self.views.request.grid);
+        let (drawer, left) = (std::mem::take(&mut self.drawer), self.left);
         *self = next;
+        (self.drawer, self.left) = (drawer, left);
         (self.snap_mm, self.exaggeration, self.recent) = (snap_mm, exaggeration, recent);
         (self.views.shown, self.views.tab, self.views.request.grid) = (shown, tab, grid);
     }
@@ -208,6 +217,11 @@ impl Workbench {
                 self.selected = None;
             }
             Edit::Settings(settings) => self.bench = settings.applied_to(&self.bench),
+            Edit::Aims(aims) => self.bench.aims = aims,
+            Edit::AddParts(parts) => {
+                self.bench.parts.extend(parts);
+                self.selected = None;
+            }
         }
         self.refresh();
     }

@@ -8,8 +8,10 @@
 
 pub mod actions;
 pub mod app;
+pub mod arranger;
 mod dialogs;
 mod document;
+pub mod drawer;
 pub mod guard;
 mod menus;
 pub mod plots;
@@ -60,6 +62,12 @@ pub struct Workbench {
     pub(crate) show_safety: bool,
     pub(crate) show_keys: bool,
     pub(crate) path_prompt: Option<(PathPrompt, String)>,
+    /// The user's stock of parts beside the bench (kept when another bench is opened).
+    pub drawer: drawer::DrawerPanel,
+    /// The aims panel and the arranger.
+    pub arranger: arranger::ArrangerPanel,
+    /// Which page the left panel shows.
+    pub left: LeftPage,
     /// The size the drawing export lays the rail out for, `WIDTHxHEIGHT` (pixels for PNG, points for SVG).
     pub(crate) drawing_size: String,
     /// Counts changes to the bench, so that a frame can tell whether it changed while being drawn.
@@ -91,6 +99,22 @@ pub(crate) enum PathPrompt {
     Export(lumenrail_bench::views::ViewKind, bool),
     /// Export the rail drawing as SVG.
     Drawing,
+    /// Open a drawer file.
+    OpenDrawer,
+    /// Save the drawer.
+    SaveDrawer,
+}
+
+/// The pages of the left panel.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
+pub enum LeftPage {
+    /// The selected part's sheet.
+    #[default]
+    Part,
+    /// The drawer: the stock of parts.
+    Drawer,
+    /// The aims and the arranger.
+    Aims,
 }
 
 impl Workbench {
@@ -113,7 +137,17 @@ impl Workbench {
             },
         );
         egui::Panel::left("sheet").resizable(true).default_size(290.0).min_size(220.0).max_size(480.0).show(ui, |ui| {
-            egui::ScrollArea::vertical().auto_shrink([false, false]).show(ui, |ui| sheet::sheet_ui(self, ui));
+            ui.horizontal(|ui| {
+                for (page, word) in [(LeftPage::Part, "Part"), (LeftPage::Drawer, "Drawer"), (LeftPage::Aims, "Aims")] {
+                    ui.selectable_value(&mut self.left, page, word);
+                }
+            });
+            ui.separator();
+            egui::ScrollArea::vertical().auto_shrink([false, false]).show(ui, |ui| match self.left {
+                LeftPage::Part => sheet::sheet_ui(self, ui),
+                LeftPage::Drawer => drawer::drawer_ui(self, ui),
+                LeftPage::Aims => arranger::aims_ui(self, ui),
+            });
         });
         if self.views.shown {
             egui::Panel::bottom("views").resizable(true).default_size(330.0).min_size(200.0).show(ui, |ui| {

@@ -141,6 +141,14 @@ pub(crate) fn rail_ui(wb: &mut Workbench, ui: &mut egui::Ui) {
     if background.clicked() {
         wb.selected = None;
     }
+    // A drawer item dropped on the rail lands under the pointer (snapped like a drag).
+    if let Some(item) = background.dnd_release_payload::<crate::drawer::DraggedItem>()
+        && let Some(pointer) = ui.input(|i| i.pointer.interact_pos())
+    {
+        let z = f64::from(left_mm + (pointer.x - rect.left()) / px_per_mm);
+        let z = if wb.snap_mm > 0.0 { (z / wb.snap_mm).round() * wb.snap_mm } else { z };
+        wb.place_from_drawer(item.0, z.clamp(0.0, wb.bench.rail_length_mm));
+    }
 
     rail_scale_ui(&scale_painter, &f, wb.bench.rail_length_mm);
     object_ui(&painter, &f, wb);
@@ -175,6 +183,33 @@ pub(crate) fn rail_ui(wb: &mut Workbench, ui: &mut egui::Ui) {
     }
     if let Some(i) = wb.selected.filter(|&i| i < wb.bench.parts.len()) {
         focal_marks_ui(&painter, &f, wb, i);
+    }
+    // An arrangement previewed from the aims panel: its lenses drawn as dashed ghosts where they would go.
+    if let Some(preview) = &wb.arranger.preview {
+        let ghost = Stroke::new(1.5, Color32::from_rgb(120, 220, 160));
+        for p in preview {
+            let semi = 0.5 * p.kind.diameter_mm();
+            let surfaces = glass_surfaces(p);
+            let polys = if surfaces.is_empty() {
+                vec![vec![f.at(p.at_mm, -semi), f.at(p.at_mm, semi)]]
+            } else {
+                lens_outline(&f, &surfaces, semi)
+            };
+            for poly in polys {
+                let mut closed = poly.clone();
+                if let Some(first) = poly.first() {
+                    closed.push(*first);
+                }
+                painter.extend(Shape::dashed_line(&closed, ghost, 5.0, 3.0));
+            }
+            painter.text(
+                f.at(p.at_mm, -semi) + vec2(0.0, 4.0),
+                egui::Align2::CENTER_TOP,
+                &p.name,
+                egui::FontId::proportional(11.0),
+                ghost.color,
+            );
+        }
     }
     // Parts in rail order, so that each label can step up above a neighbour's it would overlap.
     let mut labels: Vec<Rect> = Vec::new();
@@ -370,6 +405,18 @@ fn place_label(
     painter.galley(r.min, g, colour);
     placed.push(r);
     Some(r)
+}
+
+/// A lens's surfaces at their vertices (empty for a part that is not a singlet or doublet).
+fn glass_surfaces(p: &Part) -> Vec<(f64, SurfaceSpec)> {
+    match &p.kind {
+        PartKind::Singlet { front, back, thickness_mm, .. } => vec![(p.at_mm, *front), (p.at_mm + thickness_mm, *back)],
+        PartKind::Doublet { front, middle, back, thickness1_mm, thickness2_mm, .. } => {
+            let z1 = p.at_mm + thickness1_mm;
+            vec![(p.at_mm, *front), (z1, *middle), (z1 + thickness2_mm, *back)]
+        }
+        _ => Vec::new(),
+    }
 }
 
 /// The outline of a lens of surfaces at their vertices, on screen, as a closed polygon per element.
