@@ -50,6 +50,8 @@ pub struct ArrangerPanel {
     pub failure: Option<String>,
     /// The candidate drawn on the rail as a preview (its parts), if any.
     pub preview: Option<Vec<Part>>,
+    /// The candidate clicked, previewed until another is clicked or one is applied.
+    pub pinned: Option<usize>,
 }
 
 impl std::fmt::Debug for ArrangerPanel {
@@ -93,6 +95,7 @@ impl Workbench {
         self.arranger.running = Some(Running { progress, handle, drawer });
         self.arranger.failure = None;
         self.arranger.preview = None;
+        self.arranger.pinned = None;
         self.status = "arranging: searching the drawer…".into();
     }
 
@@ -135,6 +138,7 @@ impl Workbench {
         let names: Vec<String> = new_parts.iter().map(|p| p.name.clone()).collect();
         self.apply(Edit::AddParts(new_parts), None);
         self.arranger.preview = None;
+        self.arranger.pinned = None;
         self.status = format!("placed {}", names.join(", "));
     }
 
@@ -291,6 +295,7 @@ pub(crate) fn aims_ui(wb: &mut Workbench, ui: &mut egui::Ui) {
     }
     let mut apply = None;
     let mut hovered = None;
+    let mut pinned = wb.arranger.pinned;
     if let Some((a, drawer)) = &wb.arranger.result {
         ui.label(format!("{} choices of lenses looked at, {} traced exactly", a.combinations, a.traced));
         for (k, c) in a.candidates.iter().enumerate() {
@@ -309,7 +314,10 @@ pub(crate) fn aims_ui(wb: &mut Workbench, ui: &mut egui::Ui) {
                 let r = ui
                     .add(egui::Label::new(egui::RichText::new(text).color(colour)).wrap().sense(egui::Sense::click()));
                 let lines: Vec<String> = c.aims.iter().map(|s| s.line()).collect();
-                if r.hovered() || r.clicked() {
+                if r.clicked() {
+                    pinned = if pinned == Some(k) { None } else { Some(k) };
+                }
+                if r.hovered() || pinned == Some(k) && hovered.is_none() {
                     hovered = Some(
                         lumenrail_bench::arrange::apply(&wb.bench, drawer, c).parts[wb.bench.parts.len()..].to_vec(),
                     );
@@ -318,6 +326,7 @@ pub(crate) fn aims_ui(wb: &mut Workbench, ui: &mut egui::Ui) {
             });
         }
     }
+    wb.arranger.pinned = pinned;
     if hovered.is_some() || wb.arranger.preview.is_some() {
         wb.arranger.preview = hovered;
     }

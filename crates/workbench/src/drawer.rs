@@ -242,18 +242,17 @@ pub(crate) fn drawer_ui(wb: &mut Workbench, ui: &mut egui::Ui) {
         let l = ui.label("to (mm)");
         ui.add(egui::TextEdit::singleline(&mut wb.drawer.focal_range.1).desired_width(70.0)).labelled_by(l.id);
         ui.end_row();
+    });
+    ui.horizontal_wrapped(|ui| {
         ui.label("sort by");
-        ui.horizontal_wrapped(|ui| {
-            for (s, word) in [
-                (SortBy::Drawer, "drawer order"),
-                (SortBy::Focal, "focal length"),
-                (SortBy::Diameter, "diameter"),
-                (SortBy::Label, "label"),
-            ] {
-                ui.selectable_value(&mut wb.drawer.sort, s, word);
-            }
-        });
-        ui.end_row();
+        for (s, word) in [
+            (SortBy::Drawer, "drawer order"),
+            (SortBy::Focal, "focal length"),
+            (SortBy::Diameter, "diameter"),
+            (SortBy::Label, "label"),
+        ] {
+            ui.selectable_value(&mut wb.drawer.sort, s, word);
+        }
     });
     let wavelength = wb.bench.primary_wavelength_nm().unwrap_or(587.5618);
     let shown = wb.drawer.shown(wavelength);
