@@ -38,7 +38,7 @@ fn arranger(c: &mut Criterion) {
     let (bench, drawer) = (relay(), sixty());
     let mut g = c.benchmark_group("arrange");
     g.sample_size(10);
-    for parts in [1, 2] {
+    for parts in [1, 2, 3] {
         let options = Options { min_parts: parts, max_parts: parts, ..Options::default() };
         g.bench_function(format!("{parts}-part relay, 60-item drawer"), |b| {
             b.iter(|| black_box(arrange(&bench, &drawer, &options, &Progress::default()).unwrap()))
