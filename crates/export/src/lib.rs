@@ -6,6 +6,7 @@
 
 pub mod colour;
 pub mod csv;
+pub mod mount;
 pub mod picture;
 pub mod plots;
 pub mod rail;
