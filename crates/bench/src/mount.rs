@@ -155,8 +155,50 @@ pub struct MountSheet {
 pub struct MountWarning {
     /// The part concerned, by name (`None`: the bench as a whole).
     pub part: Option<String>,
-    /// What it says, in plain words.
+    /// What it says, in plain words, lengths in mm ([`MountWarning::words`] gives it in inches).
     pub message: String,
+    /// The message's words and lengths, for showing it in either unit.
+    #[serde(skip)]
+    pieces: Vec<Piece>,
+}
+
+/// A piece of a warning: words, or a length in mm shown in the display's unit.
+#[derive(Debug, Clone, PartialEq)]
+enum Piece {
+    Words(String),
+    Length(f64),
+}
+
+impl MountWarning {
+    /// A warning about `part` from its pieces.
+    fn new(part: Option<&str>, pieces: Vec<Piece>) -> MountWarning {
+        let mut w = MountWarning { part: part.map(str::to_string), message: String::new(), pieces };
+        w.message = w.words(false);
+        w
+    }
+
+    /// A warning of words alone.
+    fn plain(part: Option<&str>, message: String) -> MountWarning {
+        MountWarning::new(part, vec![Piece::Words(message)])
+    }
+
+    /// What it says, with its lengths in mm or (`inch`) inches.
+    pub fn words(&self, inch: bool) -> String {
+        let mut t = String::new();
+        for p in &self.pieces {
+            match p {
+                Piece::Words(w) => t.push_str(w),
+                Piece::Length(mm) => {
+                    let _ = write!(t, "{} {}", fixed(length(*mm, inch), if inch { 4 } else { 3 }), unit(inch));
+                }
+            }
+        }
+        t
+    }
+}
+
+fn words(w: impl Into<String>) -> Piece {
+    Piece::Words(w.into())
 }
 
 /// One part on the mount sheet.
@@ -329,7 +371,7 @@ impl MountSheet {
                 let pupils = match &w.pupils {
                     Ok(p) => p,
                     Err(e) => {
-                        warnings.push(MountWarning { part: None, message: format!("at {nm} nm: {e}") });
+                        warnings.push(MountWarning::plain(None, format!("at {nm} nm: {e}")));
                         continue;
                     }
                 };
@@ -342,7 +384,7 @@ impl MountSheet {
                         Ok(a) => a,
                         Err(e) => {
                             let message = format!("at {nm} nm no ray from the {point} could be aimed at the stop: {e}");
-                            warnings.push(MountWarning { part: None, message });
+                            warnings.push(MountWarning::plain(None, message));
                             continue;
                         }
                     };
@@ -359,7 +401,7 @@ impl MountSheet {
                             "at {nm} nm {unaimed} of the {RIM_RAYS} rays round the stop's rim from the {point} could \
                              not be aimed; the clear apertures stand for the rest"
                         );
-                        warnings.push(MountWarning { part: None, message });
+                        warnings.push(MountWarning::plain(None, message));
                     }
                 }
             }
@@ -400,36 +442,40 @@ impl MountSheet {
                         } else {
                             "the part clips it (vignetting), or its mount would"
                         };
-                        warnings.push(MountWarning {
-                            part: Some(part.name.clone()),
-                            message: format!(
-                                "{face}: the light needs a clear aperture of {} mm but the part is {} mm across: {what}",
-                                fixed(ca, 3),
-                                fixed(diameter_mm, 3)
-                            ),
-                        });
+                        warnings.push(MountWarning::new(
+                            Some(&part.name),
+                            vec![
+                                words(format!("{face}: the light needs a clear aperture of ")),
+                                Piece::Length(ca),
+                                words(" but the part is "),
+                                Piece::Length(diameter_mm),
+                                words(format!(" across: {what}")),
+                            ],
+                        ));
                     } else if ca > diameter_mm && !matches!(part.kind, PartKind::Iris { .. } | PartKind::Screen { .. })
                     {
-                        warnings.push(MountWarning {
-                            part: Some(part.name.clone()),
-                            message: format!(
-                                "{face}: the clear aperture with its {} mm margin, {} mm, is larger than the part's \
-                                 diameter {} mm: the seat or retaining ring would clip the light",
-                                fixed(margin, 3),
-                                fixed(ca, 3),
-                                fixed(diameter_mm, 3)
-                            ),
-                        });
+                        warnings.push(MountWarning::new(
+                            Some(&part.name),
+                            vec![
+                                words(format!("{face}: the clear aperture with its ")),
+                                Piece::Length(margin),
+                                words(" margin, "),
+                                Piece::Length(ca),
+                                words(", is larger than the part's diameter "),
+                                Piece::Length(diameter_mm),
+                                words(": the seat or retaining ring would clip the light"),
+                            ],
+                        ));
                     }
                 }
                 if sag_at_diameter_mm.is_none() {
-                    warnings.push(MountWarning {
-                        part: Some(part.name.clone()),
-                        message: format!(
-                            "{face}: the surface does not reach the part's diameter {} mm",
-                            fixed(diameter_mm, 3)
-                        ),
-                    });
+                    warnings.push(MountWarning::new(
+                        Some(&part.name),
+                        vec![
+                            words(format!("{face}: the surface does not reach the part's diameter ")),
+                            Piece::Length(diameter_mm),
+                        ],
+                    ));
                 }
                 surfaces.push(MountSurface {
                     vertex_mm,
@@ -463,14 +509,14 @@ impl MountSheet {
             for (e, el) in elements.iter().enumerate() {
                 if let Some(et) = el.edge_thickness_mm.filter(|&et| et <= 0.0) {
                     let which = if elements.len() > 1 { format!("element {} of ", e + 1) } else { String::new() };
-                    warnings.push(MountWarning {
-                        part: Some(part.name.clone()),
-                        message: format!(
-                            "{which}{who}: the edge thickness at the diameter is {} mm: the surfaces meet before the \
-                             edge",
-                            fixed(et, 3)
-                        ),
-                    });
+                    warnings.push(MountWarning::new(
+                        Some(&part.name),
+                        vec![
+                            words(format!("{which}{who}: the edge thickness at the diameter is ")),
+                            Piece::Length(et),
+                            words(": the surfaces meet before the edge"),
+                        ],
+                    ));
                 }
             }
             parts.push(MountPart {
@@ -614,7 +660,7 @@ impl MountSheet {
             }
         }
         for w in &self.warnings {
-            let _ = writeln!(t, "warning: {}", w.message);
+            let _ = writeln!(t, "warning: {}", w.words(inch));
         }
         t
     }
@@ -684,14 +730,14 @@ impl Light {
                     Some(t) => {
                         if t.lost > 0 {
                             let face = if faces[i].len() > 1 { format!("surface {} of ", s + 1) } else { String::new() };
-                            warnings.push(MountWarning {
-                                part: Some(name.clone()),
-                                message: format!(
+                            warnings.push(MountWarning::plain(
+                                Some(name),
+                                format!(
                                     "{face}{name}: {} traced rays miss the surface or are turned back by total internal \
                                      reflection there",
                                     t.lost
                                 ),
-                            });
+                            ));
                         }
                         Ok(t.radius)
                     }

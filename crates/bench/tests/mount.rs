@@ -304,3 +304,26 @@ fn inches_divide_by_25_4() {
     assert!(text.contains("Lengths in in"), "{text}");
     assert!(text.contains(&format!("{:.4}", 620.0 / 25.4)), "{text}");
 }
+
+/// A warning's lengths follow the display's unit too: in inches, the margin warning of a thin lens that
+/// is the stop gives its diameter 20 mm as 0.7874 in.
+#[test]
+fn warnings_speak_the_display_unit() {
+    let b = bench(
+        r#"(
+    format: 1,
+    title: "Classroom cone",
+    rail_length_mm: 400.0,
+    wavelengths_nm: [550.0],
+    primary_wavelength: 0,
+    object: Point(at_mm: 0.0, height_mm: 4.0),
+    parts: [(name: "Lens", at_mm: 100.0, kind: ThinLens(focal_mm: 50.0, diameter_mm: 20.0))],
+)"#,
+    );
+    let s = sheet(&b, Datum::CarrierCentre, DEFAULT_MARGIN_MM);
+    let w = s.warnings.iter().find(|w| w.part.as_deref() == Some("Lens")).unwrap();
+    assert_eq!(w.message, w.words(false));
+    assert!(w.words(false).contains("diameter 20.000 mm"), "{}", w.message);
+    assert!(w.words(true).contains(&format!("diameter {:.4} in", 20.0 / 25.4)), "{}", w.words(true));
+    assert!(s.to_text(true).contains(&w.words(true)));
+}

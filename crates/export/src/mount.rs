@@ -313,7 +313,15 @@ pub fn mount_svg(sheet: &MountSheet, inch: bool, date: &str) -> String {
     let overall = |v: Option<f64>| v.map_or_else(|| "—".to_string(), |v| format!("{} {u}", fixed(length(v, inch), d)));
     let rows = [
         ("title", sheet.title.clone(), 14.0),
-        ("units", format!("units: {} ({})", u, if inch { "inches, 25.4 mm each" } else { "millimetres" }), 11.0),
+        (
+            "units",
+            format!(
+                "units: {} ({}); drawn to scale, heights as lengths",
+                u,
+                if inch { "inches, 25.4 mm each" } else { "millimetres" }
+            ),
+            11.0,
+        ),
         ("datum", format!("reference: {}; positions from the datum at rail 0", sheet.datum.words()), 11.0),
         (
             "overall",

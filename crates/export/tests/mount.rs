@@ -111,7 +111,10 @@ fn csv_reads_back_to_the_sheets_numbers() {
 /// Renders an SVG text with resvg (the bundled font loaded, as the rail picture does); panics on error.
 fn render(svg: &str) -> resvg::tiny_skia::Pixmap {
     let mut options = resvg::usvg::Options::default();
-    options.fontdb_mut().load_font_data(epaint_default_fonts::UBUNTU_LIGHT.to_vec());
+    let fonts = options.fontdb_mut();
+    fonts.load_font_data(epaint_default_fonts::UBUNTU_LIGHT.to_vec());
+    let family = fonts.faces().next().and_then(|f| f.families.first()).map(|(name, _)| name.clone()).unwrap();
+    fonts.set_sans_serif_family(family);
     let tree = resvg::usvg::Tree::from_str(svg, &options).unwrap();
     let size = tree.size().to_int_size();
     let mut pixmap = resvg::tiny_skia::Pixmap::new(size.width(), size.height()).unwrap();
