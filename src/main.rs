@@ -67,6 +67,38 @@ enum Command {
         #[arg(long, value_name = "OUT.bench.ron")]
         write: Option<PathBuf>,
     },
+    /// The mount sheet for the machine shop: each part's reference position from the datum, vertex
+    /// positions, spacings, clear apertures beside the diameters, sags, centre and edge thicknesses and the
+    /// overall length. Prints it as a text table, or writes it as CSV, an SVG drawing and a DXF.
+    MountSheet {
+        /// The bench file (.bench.ron).
+        file: PathBuf,
+        /// Write the sheet as CSV (one row per surface, units in the header).
+        #[arg(long, value_name = "OUT.csv")]
+        csv: Option<PathBuf>,
+        /// Write the assembly drawing as SVG (side view to scale, dimensions from the datum, title block).
+        #[arg(long, value_name = "OUT.svg")]
+        svg: Option<PathBuf>,
+        /// Write the assembly drawing as plain ASCII DXF (layers OUTLINE, AXIS, DIMENSION, APERTURE).
+        #[arg(long, value_name = "OUT.dxf")]
+        dxf: Option<PathBuf>,
+        /// Print the sheet as JSON for a script (lengths always in mm).
+        #[arg(long)]
+        json: bool,
+        /// Show lengths in inches (25.4 mm each) in the text, the CSV, the SVG and the DXF.
+        #[arg(long)]
+        inch: bool,
+        /// Which point of each carrier is its reference position: its centre, or its left or right edge.
+        #[arg(long, default_value = "centre", value_parser = ["centre", "left", "right"])]
+        datum: String,
+        /// Added to each side of the light's footprint for the clear apertures, mm (default 0.5 mm,
+        /// common practice).
+        #[arg(long, value_name = "MM", default_value_t = lumenrail_bench::mount::DEFAULT_MARGIN_MM)]
+        margin: f64,
+        /// The date in the drawing's title block (default: today, UTC).
+        #[arg(long, value_name = "YYYY-MM-DD")]
+        date: Option<String>,
+    },
     /// List the built-in demo benches, or print one: `lumenrail demos NAME > my.bench.ron`.
     Demos {
         /// The demo to print.
@@ -153,6 +185,10 @@ fn main() -> ExitCode {
         }
         Some(Command::Export { file, view, csv, png, plane, grid, .. }) => {
             export(&file, &view, csv.as_deref(), png.as_deref(), plane.as_deref(), &grid)
+        }
+        Some(Command::MountSheet { file, csv, svg, dxf, json, inch, datum, margin, date }) => {
+            let to = MountOutputs { csv: csv.as_deref(), svg: svg.as_deref(), dxf: dxf.as_deref() };
+            mount_sheet(&file, to, json, inch, &datum, margin, date.as_deref())
         }
         Some(Command::Materials) => {
             for e in library::entries() {
@@ -256,6 +292,100 @@ fn export_rail(path: &Path, to: RailOutputs<'_>, (width, height): (u32, u32)) ->
         return ExitCode::from(1);
     }
     ExitCode::SUCCESS
+}
+
+/// Where `mount-sheet` writes its files.
+struct MountOutputs<'a> {
+    csv: Option<&'a Path>,
+    svg: Option<&'a Path>,
+    dxf: Option<&'a Path>,
+}
+
+/// `lumenrail mount-sheet FILE [--csv OUT] [--svg OUT] [--dxf OUT] [--json] [--inch] [--datum D]
+/// [--margin MM] [--date YYYY-MM-DD]`: the text table (or JSON) when no file is asked for, else the files.
+/// Exits 1 after writing when the bench cannot be traced (the positions are there, the clear apertures
+/// are not).
+fn mount_sheet(
+    path: &Path,
+    to: MountOutputs<'_>,
+    json: bool,
+    inch: bool,
+    datum: &str,
+    margin_mm: f64,
+    date: Option<&str>,
+) -> ExitCode {
+    use lumenrail_bench::mount::{Datum, MountOptions, MountSheet};
+    use lumenrail_export::mount::{mount_csv, mount_dxf, mount_svg};
+    if !margin_mm.is_finite() || margin_mm < 0.0 {
+        eprintln!("lumenrail mount-sheet: --margin {margin_mm}: the margin must be a number of mm, 0 or more");
+        return ExitCode::from(2);
+    }
+    let Some(loaded) = load(path) else {
+        return ExitCode::from(2);
+    };
+    let evaluation = lumenrail_bench::evaluation::Evaluation::of(&loaded.bench);
+    let options = MountOptions { datum: Datum::from_word(datum).expect("clap checked the datum"), margin_mm };
+    let sheet = MountSheet::of(&evaluation, &options);
+    let files = to.csv.is_some() || to.svg.is_some() || to.dxf.is_some();
+    if json {
+        println!("{}", sheet.to_json());
+    } else if !files {
+        print!("{}", sheet.to_text(inch));
+    }
+    let today;
+    let date = match date {
+        Some(d) => d,
+        None => {
+            today = today_utc();
+            &today
+        }
+    };
+    let mut outputs: Vec<(&Path, Result<String, lumenrail_export::mount::MountFileError>)> = Vec::new();
+    if let Some(p) = to.csv {
+        outputs.push((p, mount_csv(&sheet, inch)));
+    }
+    if let Some(p) = to.svg {
+        outputs.push((p, Ok(mount_svg(&sheet, inch, date))));
+    }
+    if let Some(p) = to.dxf {
+        outputs.push((p, mount_dxf(&sheet, inch)));
+    }
+    for (out, text) in outputs {
+        let written = text
+            .map_err(|e| e.to_string())
+            .and_then(|t| file::write_atomic(out, t.as_bytes()).map_err(|e| e.to_string()));
+        if let Err(e) = written {
+            eprintln!("lumenrail mount-sheet: {e}");
+            return ExitCode::from(2);
+        }
+        eprintln!("wrote {}", out.display());
+    }
+    if files {
+        for w in &sheet.warnings {
+            eprintln!("{}: warning: {}", path.display(), w.words(inch));
+        }
+    }
+    if let Some(why) = &evaluation.report.trace_failure {
+        eprintln!("{}: cannot trace as asked: {why}", path.display());
+        return ExitCode::from(1);
+    }
+    ExitCode::SUCCESS
+}
+
+/// Today's date in UTC as YYYY-MM-DD, from the system clock (days to the civil calendar by
+/// H. Hinnant's algorithm for the proleptic Gregorian calendar).
+fn today_utc() -> String {
+    let secs = std::time::SystemTime::now().duration_since(std::time::UNIX_EPOCH).map_or(0, |d| d.as_secs());
+    let z = (secs / 86_400) as i64 + 719_468;
+    let era = z.div_euclid(146_097);
+    let doe = z.rem_euclid(146_097);
+    let yoe = (doe - doe / 1460 + doe / 36_524 - doe / 146_096) / 365;
+    let doy = doe - (365 * yoe + yoe / 4 - yoe / 100);
+    let mp = (5 * doy + 2) / 153;
+    let day = doy - (153 * mp + 2) / 5 + 1;
+    let month = if mp < 10 { mp + 3 } else { mp - 9 };
+    let year = yoe + era * 400 + i64::from(month <= 2);
+    format!("{year:04}-{month:02}-{day:02}")
 }
 
 fn export(

@@ -506,3 +506,82 @@ fn arrange_places_the_drawer_lens_that_meets_the_aims() {
     assert_eq!(o.status.code(), Some(2));
     assert!(stderr(&o).contains("bad.drawer.ron:1:"), "{}", stderr(&o));
 }
+
+/// `lumenrail mount-sheet`: a text table by default, JSON in mm, and the CSV, SVG and DXF written
+/// atomically; with `--inch` every CSV length is the JSON's millimetres divided by 25.4, exactly.
+#[test]
+#[allow(clippy::float_cmp)] // The CSV writes numbers in full and an inch is one division: bit for bit.
+fn mount_sheet_prints_the_table_and_writes_the_shop_files() {
+    let bench = write("mount.bench.ron", demo("unit-relay"));
+    let b = bench.to_str().unwrap();
+    let o = run(&["mount-sheet", b]);
+    assert!(o.status.success(), "{}", stderr(&o));
+    let table = String::from_utf8(o.stdout).unwrap();
+    assert!(
+        table.starts_with("Mount sheet: ") && table.contains("Relay A") && table.contains("Lengths in mm"),
+        "{table}"
+    );
+
+    let o = run(&["mount-sheet", b, "--json", "--datum", "left", "--margin", "1"]);
+    assert!(o.status.success(), "{}", stderr(&o));
+    let v: serde_json::Value = serde_json::from_slice(&o.stdout).unwrap();
+    assert_eq!(v["datum"], "carrier-left-edge");
+    assert_eq!(v["margin_mm"].as_f64(), Some(1.0));
+    let parts = v["parts"].as_array().unwrap();
+
+    let (csv, svg, dxf) = (scratch("mount.csv"), scratch("mount.svg"), scratch("mount.dxf"));
+    let o = run(&[
+        "mount-sheet",
+        b,
+        "--csv",
+        csv.to_str().unwrap(),
+        "--svg",
+        svg.to_str().unwrap(),
+        "--dxf",
+        dxf.to_str().unwrap(),
+        "--inch",
+        "--datum",
+        "left",
+        "--margin",
+        "1",
+        "--date",
+        "2031-04-05",
+    ]);
+    assert!(o.status.success(), "{}", stderr(&o));
+    assert!(o.stdout.is_empty(), "files asked for: no table");
+    let table = std::fs::read_to_string(&csv).unwrap();
+    let mut lines = table.lines();
+    let header: Vec<&str> = lines.next().unwrap().split(',').collect();
+    assert_eq!(header[3], "reference_at_in");
+    let col = |name: &str| header.iter().position(|h| *h == name).unwrap();
+    let mut rows = 0;
+    for line in lines {
+        let cells: Vec<&str> = line.split(',').collect();
+        let part = parts.iter().find(|p| p["name"] == cells[0]).unwrap();
+        let reference: f64 = cells[col("reference_at_in")].parse().unwrap();
+        assert_eq!(reference, part["reference_mm"].as_f64().unwrap() / 25.4, "{line}");
+        let diameter: f64 = cells[col("diameter_in")].parse().unwrap();
+        assert_eq!(diameter, part["diameter_mm"].as_f64().unwrap() / 25.4, "{line}");
+        let surface: usize = cells[2].parse().unwrap();
+        let vertex: f64 = cells[col("vertex_at_in")].parse().unwrap();
+        assert_eq!(vertex, part["vertices_mm"][surface - 1].as_f64().unwrap() / 25.4, "{line}");
+        if let Some(ca) = part["surfaces"][surface - 1]["clear_aperture_mm"].as_f64() {
+            let got: f64 = cells[col("clear_aperture_in")].parse().unwrap();
+            assert_eq!(got, ca / 25.4, "{line}");
+        }
+        rows += 1;
+    }
+    assert_eq!(rows, parts.iter().map(|p| p["surfaces"].as_array().unwrap().len()).sum::<usize>());
+    let drawing = std::fs::read_to_string(&svg).unwrap();
+    assert!(drawing.starts_with("<svg") && drawing.contains("date: 2031-04-05") && drawing.contains("units: in"));
+    let cad = std::fs::read_to_string(&dxf).unwrap();
+    assert!(cad.contains("$INSUNITS") && cad.contains("OUTLINE") && cad.contains("DIMENSION"));
+
+    for bad in [&["--margin=-1"][..], &["--margin", "NaN"][..], &["--datum", "middle"][..]] {
+        let o = run(&[&["mount-sheet", b][..], bad].concat());
+        assert_eq!(o.status.code(), Some(2), "{bad:?}: {}", stderr(&o));
+        assert!(!stderr(&o).contains("panicked"));
+    }
+    let o = run(&["mount-sheet", b, "--margin=-1"]);
+    assert!(stderr(&o).contains("the margin must be"), "{}", stderr(&o));
+}

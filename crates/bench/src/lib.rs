@@ -16,6 +16,7 @@ pub mod drawer;
 pub mod evaluation;
 pub mod file;
 pub mod model;
+pub mod mount;
 pub mod report;
 pub mod validate;
 pub mod views;

@@ -365,11 +365,28 @@ pub fn rim_clears(seq: &Sequence, object: Object, pupils: &Pupils, fraction: f64
 /// The launches of the rays through the rim of the real stop ([`RIM_RAYS`] + 1 of them over the half
 /// circle, a hair inside the edge), each aimed from its neighbour; `None` for a ray that cannot be aimed.
 fn rim_rays<'a>(aimer: &'a SkewAimer<'a>) -> impl Iterator<Item = Option<SkewRay>> + 'a {
+    rim_at(aimer, (0..=RIM_RAYS).map(|j| std::f64::consts::PI * j as f64 / RIM_RAYS as f64))
+}
+
+/// The launches of `count` rays evenly spaced round the whole rim of the real stop, from its top edge
+/// (φ = 0, pupil coordinates (0, 1)) towards +x (φ = π/2, (1, 0)), each a hair (1e-12 of the stop's
+/// radius) inside the edge so that the stop's own edge never counts as blocking, and each aimed from its
+/// neighbour; `None` for a ray that cannot be aimed. The rays that [`rim_clears`] checks over the half
+/// circle come from the same aiming.
+pub fn rim_around<'a>(aimer: &'a SkewAimer<'a>, count: usize) -> impl Iterator<Item = Option<SkewRay>> + 'a {
+    rim_at(aimer, (0..count).map(move |j| std::f64::consts::TAU * j as f64 / count as f64))
+}
+
+/// The launches of the rays through the rim of the real stop at the angles `phis`, a hair inside the
+/// edge, each aimed from the one before.
+fn rim_at<'a>(
+    aimer: &'a SkewAimer<'a>,
+    phis: impl Iterator<Item = f64> + 'a,
+) -> impl Iterator<Item = Option<SkewRay>> + 'a {
     let inside = 1.0 - 1e-12;
     let a = aimer.stop_semi_mm;
     let mut near: Option<([f64; 2], (f64, f64))> = None;
-    (0..=RIM_RAYS).map(move |j| {
-        let phi = std::f64::consts::PI * j as f64 / RIM_RAYS as f64;
+    phis.map(move |phi| {
         let (px, py) = (inside * phi.sin(), inside * phi.cos());
         let uv = aimer.parameters_near(px, py, near).ok()?;
         near = Some((uv, (px * a, py * a)));
@@ -564,6 +581,27 @@ mod tests {
                     (ray.x_mm - 3.0 * px).abs() < 1e-11 && (ray.y_mm - 3.0 * py).abs() < 1e-11,
                     "{object:?} {px} {py}"
                 );
+            }
+        }
+    }
+
+    /// The rays round the whole rim meet the real stop on its edge (a hair inside), evenly spaced in
+    /// angle from the top edge towards +x, off axis as on axis.
+    #[test]
+    fn rim_rays_go_round_the_whole_rim() {
+        let seq = singlet_with_front_stop();
+        let object = Object::Finite { z_mm: 0.0, height_mm: 10.0 };
+        let pupils = Pupils::find(&seq, &object).unwrap();
+        for fraction in [0.0, 1.0] {
+            let aimer = SkewAimer::new(&seq, object, &pupils, fraction).unwrap();
+            let rays: Vec<SkewRay> = rim_around(&aimer, 64).map(Option::unwrap).collect();
+            assert_eq!(rays.len(), 64);
+            for (j, ray) in rays.into_iter().enumerate() {
+                let at_stop = skew::through_step(&seq.steps[0], 0, &ray, false).unwrap();
+                let phi = std::f64::consts::TAU * j as f64 / 64.0;
+                // The stop's radius is 4 mm; the aim converges to 1e-12 of it and sits 1e-12 inside.
+                assert!((at_stop.x_mm - 4.0 * phi.sin()).abs() < 1e-10, "{fraction} {j}");
+                assert!((at_stop.y_mm - 4.0 * phi.cos()).abs() < 1e-10, "{fraction} {j}");
             }
         }
     }
