@@ -41,6 +41,8 @@ pub enum Action {
     NextPart,
     /// Open the bench settings sheet (title, rail, object, wavelengths).
     BenchSettings,
+    /// Open the mount sheet window.
+    MountSheet,
     /// Nudge the selected part one step towards the datum.
     NudgeBack,
     /// Nudge the selected part one step away from the datum.
@@ -172,6 +174,7 @@ pub const ACTIONS: &[ActionInfo] = &[
     entry(Action::NudgeBackTen, Menu::None, "Nudge ten steps left", &[Shortcut::shift(Key::ArrowLeft)]),
     entry(Action::NudgeForwardTen, Menu::None, "Nudge ten steps right", &[Shortcut::shift(Key::ArrowRight)]),
     entry(Action::FitBench, Menu::View, "Fit bench", &[]),
+    entry(Action::MountSheet, Menu::View, "Mount sheet (for the machine shop)", &[]),
     entry(Action::ToggleViews, Menu::View, "Analysis views (spot, fan, sweep, colour, field)", &[]),
     entry(Action::GettingStarted, Menu::Help, "Getting started", &[Shortcut::plain(Key::F1)]),
     entry(Action::Safety, Menu::Help, "Safety", &[]),
@@ -292,6 +295,7 @@ impl Workbench {
             Action::NudgeBackTen => self.nudge(-10.0),
             Action::NudgeForwardTen => self.nudge(10.0),
             Action::FitBench => self.view.fit(),
+            Action::MountSheet => self.mount.open = true,
             Action::ToggleViews => self.views.shown = !self.views.shown,
             Action::GettingStarted => self.show_start = true,
             Action::Safety => self.show_safety = true,

@@ -76,6 +76,9 @@ impl Workbench {
                 PathPrompt::Export(_, true) => ("Export view", "Path of the PNG picture:", "Export"),
                 PathPrompt::Export(_, false) => ("Export view", "Path of the CSV table:", "Export"),
                 PathPrompt::OpenDrawer => ("Open drawer", "Path of the .drawer.ron file:", "Open"),
+                PathPrompt::MountSheet => {
+                    ("Export mount sheet", "Path of the mount sheet (.csv, .svg or .dxf):", "Export")
+                }
                 PathPrompt::SaveDrawer => ("Save drawer as", "Path of the .drawer.ron file:", "Save"),
                 PathPrompt::Drawing => {
                     ("Export drawing", "Path of the drawing (.svg or .png; .txt for the readout):", "Export")
@@ -120,6 +123,7 @@ impl Workbench {
                     PathPrompt::Export(view, png) => self.export_view(view, png, &path),
                     PathPrompt::Drawing => self.export_drawing(&path),
                     PathPrompt::OpenDrawer => self.open_drawer(path),
+                    PathPrompt::MountSheet => self.export_mount_sheet(&path),
                     PathPrompt::SaveDrawer => self.save_drawer(path),
                 };
             }

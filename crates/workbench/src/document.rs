@@ -116,6 +116,7 @@ impl Workbench {
             drawer: crate::drawer::DrawerPanel::default(),
             arranger: crate::arranger::ArrangerPanel::default(),
             left: crate::LeftPage::default(),
+            mount: crate::mount::MountWindow::default(),
             revision: 0,
             recent: Vec::new(),
             views: plots::ViewsPanel::default(),

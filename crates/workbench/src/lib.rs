@@ -14,6 +14,7 @@ mod document;
 pub mod drawer;
 pub mod guard;
 mod menus;
+pub mod mount;
 pub mod plots;
 mod rail;
 mod readout;
@@ -68,6 +69,8 @@ pub struct Workbench {
     pub arranger: arranger::ArrangerPanel,
     /// Which page the left panel shows.
     pub left: LeftPage,
+    /// The mount sheet window.
+    pub mount: mount::MountWindow,
     /// The size the drawing export lays the rail out for, `WIDTHxHEIGHT` (pixels for PNG, points for SVG).
     pub(crate) drawing_size: String,
     /// Counts changes to the bench, so that a frame can tell whether it changed while being drawn.
@@ -103,6 +106,8 @@ pub(crate) enum PathPrompt {
     OpenDrawer,
     /// Save the drawer.
     SaveDrawer,
+    /// Export the mount sheet (CSV, SVG or DXF by the name).
+    MountSheet,
 }
 
 /// The pages of the left panel.
@@ -157,6 +162,7 @@ impl Workbench {
         egui::CentralPanel::default().show(ui, |ui| rail::rail_ui(self, ui));
         self.windows_ui(ui.ctx());
         self.settings_ui(ui.ctx());
+        self.mount_ui(ui.ctx());
         self.unsaved_ui(ui.ctx());
         self.typing |= ui.ctx().memory(|m| m.focused().is_some());
         if self.revision != revision {

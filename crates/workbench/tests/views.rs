@@ -249,3 +249,34 @@ fn the_rail_drawing_exports_as_svg_png_and_text_from_the_file_menu() {
     assert!(h.state().status.contains("WIDTHxHEIGHT"), "{}", h.state().status);
     let _ = std::fs::remove_dir_all(&dir);
 }
+
+/// View, Mount sheet opens the sheet of the bench (the same text as `lumenrail mount-sheet`), switches to
+/// inches (25.4 mm each: the relay's 100 mm spacing reads 3.937 in), and exports it as DXF by path.
+#[test]
+fn the_mount_sheet_window_shows_the_sheet_in_mm_or_inches_and_exports_it() {
+    let mut h = harness("unit-relay");
+    h.get_by_label("View").click();
+    h.run();
+    h.get_by_label("Mount sheet (for the machine shop)").click();
+    h.run();
+    let sheet = h.state_mut().mount_sheet().unwrap().to_text(false);
+    let _ = h.get_by_label_contains(sheet.lines().nth(3).unwrap().trim());
+    h.get_by_label("inches").click();
+    h.run();
+    let _ = h.get_by_label_contains("3.937");
+    let path = std::env::temp_dir().join(format!("lumenrail-mount-{}.dxf", std::process::id()));
+    h.get_by_label("Export (CSV, SVG or DXF)…").click();
+    h.run();
+    let field = "Path of the mount sheet (.csv, .svg or .dxf):";
+    h.get_by_label(field).focus();
+    h.run();
+    h.key_press_modifiers(egui::Modifiers::COMMAND, Key::A);
+    h.run();
+    h.get_by_label(field).type_text(path.to_str().unwrap());
+    h.run();
+    h.key_press(Key::Enter);
+    h.run();
+    let dxf = std::fs::read_to_string(&path).unwrap_or_else(|e| panic!("{e}: {}", h.state().status));
+    assert!(dxf.contains("SECTION") && dxf.contains("OUTLINE"), "not a DXF with our layers");
+    let _ = std::fs::remove_file(&path);
+}
