@@ -178,6 +178,7 @@ fn lenses_of(item: usize, it: &DrawerItem, wavelength_nm: f64) -> Vec<Lens> {
             object: ObjectSpec::Distant { field_deg: 0.0, beam_diameter_mm: 1.0 },
             parts: vec![Part { name: "L".into(), at_mm: 0.0, kind: kind.clone(), carrier_mm: None, from_drawer: None }],
             aims: Vec::new(),
+            laser: None,
         };
         let Ok(compiled) = crate::compile::compile(&bench) else { continue };
         let Ok(seq) = compiled.system.at(wavelength_nm) else { continue };

@@ -35,6 +35,7 @@ pub const DEMOS: &[Demo] = &[
     demo!("microscope-model"),
     demo!("keplerian-telescope"),
     demo!("galilean-expander"),
+    demo!("laser-expander"),
     demo!("plano-convex-curved-first"),
     demo!("plano-convex-flat-first"),
     demo!("colour-singlet"),

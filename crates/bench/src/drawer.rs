@@ -147,6 +147,7 @@ impl DrawerItem {
                 from_drawer: None,
             }],
             aims: Vec::new(),
+            laser: None,
         };
         let compiled = compile::compile(&bench).ok()?;
         let seq = compiled.system.at(wavelength_nm).ok()?;

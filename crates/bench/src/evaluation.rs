@@ -13,10 +13,11 @@
 //! point's rotational symmetry).
 
 use crate::compile::{self, Compiled};
-use crate::model::{Bench, PartKind};
+use crate::model::{Bench, Laser, PartKind};
 use crate::report::Report;
 use crate::validate::{Finding, Severity, validate};
 use lumenrail_optics::analysis::{Analysis, PartialPlane, Request, analyse};
+use lumenrail_optics::beam::{BeamTrace, LaserSource};
 use lumenrail_optics::paraxial::{FirstOrder, Object};
 use lumenrail_optics::pupil::{FieldPoint, Pupils, meridional_fan};
 use lumenrail_optics::spot::AxialSpot;
@@ -76,6 +77,8 @@ pub struct Traced {
     pub compiled: Compiled,
     /// Every figure, every wavelength's sequence, stop and images.
     pub analysis: Analysis,
+    /// The laser's Gaussian beam through the same sequence at its wavelength (`None` without a laser).
+    pub beam: Option<BeamTrace>,
 }
 
 /// Everything known about one revision of a bench.
@@ -170,7 +173,24 @@ fn trace(bench: &Bench, screens: &[usize]) -> Result<Traced, String> {
     };
     count_analysis();
     let analysis = analyse(&compiled.system, &request).map_err(|e| e.to_string())?;
-    Ok(Traced { compiled, analysis })
+    let beam = bench.laser.as_ref().and_then(|l| laser_beam(l, &analysis));
+    Ok(Traced { compiled, analysis, beam })
+}
+
+/// The laser's beam through the sequence of its wavelength (which validation has made one of the bench's,
+/// so that sequence is already evaluated); `None` when the numbers are not usable (validation says why).
+fn laser_beam(laser: &Laser, analysis: &Analysis) -> Option<BeamTrace> {
+    let w = analysis
+        .wavelengths
+        .iter()
+        .find(|w| (w.seq.wavelength_nm - laser.wavelength_nm).abs() <= 1e-9 * laser.wavelength_nm)?;
+    let source = LaserSource {
+        wavelength_nm: laser.wavelength_nm,
+        waist_radius_mm: 0.5 * laser.waist_diameter_mm,
+        waist_at_mm: laser.waist_at_mm,
+        m_squared: laser.m_squared,
+    };
+    BeamTrace::of(&w.seq, source).ok()
 }
 
 /// The rail's fans: on-axis and off-axis, at the first, primary and last wavelength.

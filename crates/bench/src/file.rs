@@ -397,6 +397,9 @@ pub fn to_text(bench: &Bench) -> String {
         let _ = writeln!(t, "    wavelength_weights: {},", one_line(&bench.wavelength_weights));
     }
     let _ = writeln!(t, "    object: {},", one_line(&bench.object));
+    if let Some(laser) = &bench.laser {
+        let _ = writeln!(t, "    laser: {},", one_line(laser));
+    }
     t.push_str("    parts: [\n");
     for i in bench.rail_order() {
         let _ = writeln!(t, "        {},", one_line(&bench.parts[i]));

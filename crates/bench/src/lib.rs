@@ -10,6 +10,7 @@
 
 pub mod aims;
 pub mod arrange;
+pub mod beam;
 pub mod compile;
 pub mod demos;
 pub mod drawer;

@@ -28,6 +28,16 @@ pub struct Bench {
     pub object: ObjectSpec,
     /// The parts, in any order (the rail position decides).
     pub parts: Vec<Part>,
+    /// A laser on the bench, whose Gaussian beam is propagated through the parts beside the rays (left
+    /// out of the file when there is none; format-1 files without it read as before). Written plainly:
+    /// `laser: (at_mm: …, wavelength_nm: …, …)`.
+    #[serde(
+        default,
+        skip_serializing_if = "Option::is_none",
+        deserialize_with = "plain_some_laser",
+        serialize_with = "plain_laser"
+    )]
+    pub laser: Option<Laser>,
     /// What the user wants of the bench, each with its tolerance (left out of the file when there are
     /// none; format-1 files without it read as before).
     #[serde(default, skip_serializing_if = "Vec::is_empty")]
@@ -122,6 +132,36 @@ pub enum ObjectSpec {
         /// Beam diameter, mm.
         beam_diameter_mm: f64,
     },
+}
+
+/// A laser source: where it sits, its wavelength and its beam as it leaves.
+///
+/// Diameters are 1/e² diameters (where the irradiance falls to 1/e² ≈ 13.5 % of the peak), as laser data
+/// sheets give them; the beam figures use the radius, half of it. The beam is propagated as an embedded
+/// Gaussian of quality M² (`lumenrail_optics::beam`). The rays the bench draws are still those of its
+/// `object`: for a laser bench, `Distant(field_deg: …, beam_diameter_mm: <the laser's diameter>)` makes
+/// them the geometric bundle of a collimated beam, which the 1/e² envelope follows away from its waists.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct Laser {
+    /// Rail position of the laser's exit, mm: the beam starts here travelling +z; every part lies after it.
+    pub at_mm: f64,
+    /// Wavelength in air, nm (one of the bench's wavelengths).
+    pub wavelength_nm: f64,
+    /// The waist's 1/e² diameter, mm.
+    pub waist_diameter_mm: f64,
+    /// Rail position of the waist, mm, as it would lie in free space (often at or just behind the exit).
+    pub waist_at_mm: f64,
+    /// Beam quality M² (1 for a perfect Gaussian; at least 1).
+    pub m_squared: f64,
+    /// Output power, mW, for the peak irradiances (left out: no irradiances).
+    #[serde(
+        default,
+        skip_serializing_if = "Option::is_none",
+        deserialize_with = "plain_some",
+        serialize_with = "plain"
+    )]
+    pub power_mw: Option<f64>,
 }
 
 /// A part on the rail.
@@ -385,6 +425,19 @@ impl Bench {
 /// Reads an optional number written plainly (`carrier_mm: 25.0`, not `Some(25.0)`); absent means `None`.
 fn plain_some<'de, D: serde::Deserializer<'de>>(d: D) -> Result<Option<f64>, D::Error> {
     f64::deserialize(d).map(Some)
+}
+
+/// Reads an optional laser written plainly (`laser: (at_mm: …)`, not `Some(…)`); absent means `None`.
+fn plain_some_laser<'de, D: serde::Deserializer<'de>>(d: D) -> Result<Option<Laser>, D::Error> {
+    Laser::deserialize(d).map(Some)
+}
+
+/// Writes an optional laser plainly (skipped when absent, by `skip_serializing_if`).
+fn plain_laser<S: serde::Serializer>(v: &Option<Laser>, s: S) -> Result<S::Ok, S::Error> {
+    match v {
+        Some(l) => l.serialize(s),
+        None => s.serialize_none(),
+    }
 }
 
 /// Writes an optional number plainly (skipped when absent, by `skip_serializing_if`).

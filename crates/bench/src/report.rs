@@ -2,12 +2,14 @@
 //! hand. It serialises to the JSON keys of DESIGN.md (more may follow) and renders as text; the GUI and
 //! every export read this same type.
 
+use crate::beam::{BeamFigures, LASER_CAUTION};
 use crate::compile::{self, Compiled};
 use crate::evaluation::{Evaluation, Traced};
-use crate::model::{Bench, ObjectSpec};
+use crate::model::{Bench, Laser, ObjectSpec};
 use crate::validate::{Finding, Severity};
 use lumenrail_optics::analysis::Analysis;
 pub use lumenrail_optics::analysis::{FieldFigures, Viewing};
+use lumenrail_optics::beam::BeamTrace;
 use lumenrail_optics::pupil::{PupilError, StopAt};
 use lumenrail_optics::seidel::SeidelTerms;
 use lumenrail_optics::spot::SpotError;
@@ -185,6 +187,8 @@ pub enum WarningKind {
     Screen,
     /// A safety caution.
     Caution,
+    /// A part's clear aperture passes less than 99 % of the laser beam's power.
+    Clipping,
 }
 
 /// Something in a bench that needs a look: what kind, which part and field it concerns, and what it says.
@@ -248,6 +252,8 @@ pub struct Report {
     /// When the final image is virtual, for viewing: where it is seen from the exit pupil (then the report
     /// gives no f-number, Airy radius, depth of focus or best focus: no screen can catch that image).
     pub viewing: Option<Viewing>,
+    /// The laser beam's figures (null without a laser on the bench).
+    pub beam: Option<BeamFigures>,
     /// Each of the bench's aims: its target, the value reached, met or not.
     pub aims: Vec<crate::aims::AimStatus>,
     /// Everything that needs a look.
@@ -325,6 +331,7 @@ impl Report {
             field: None,
             colour: Vec::new(),
             viewing: None,
+            beam: None,
             aims: Vec::new(),
             warnings: Vec::new(),
             trace_failure: failure,
@@ -347,9 +354,35 @@ impl Report {
                 ));
             }
             report.fill(bench, &t.compiled, &t.analysis, screens);
+            if let (Some(laser), Some(beam)) = (&bench.laser, &t.beam) {
+                report.fill_beam(bench, laser, &t.compiled, beam, screens);
+            }
+        }
+        if bench.laser.is_some() {
+            report.warnings.push(Warning::new(WarningKind::Caution, None, LASER_CAUTION.into()));
         }
         report.aims = crate::aims::assess(bench, &report);
         report
+    }
+
+    /// The beam's figures and its clipping warnings.
+    fn fill_beam(&mut self, bench: &Bench, laser: &Laser, compiled: &Compiled, beam: &BeamTrace, screens: &[usize]) {
+        let figures = BeamFigures::of(bench, laser, compiled, beam, screens);
+        let estimate = if figures.shares_are_estimates { " (an estimate: M² > 1)" } else { "" };
+        for p in figures.clipping() {
+            self.warnings.push(Warning::new(
+                WarningKind::Clipping,
+                Some(&p.part),
+                format!(
+                    "clipping: \"{}\" ({} mm clear) passes {}% of the laser beam's power{estimate}; the beam is {} mm across (1/e²) there",
+                    p.part,
+                    fixed(p.clear_diameter_mm, 2),
+                    fixed(100.0 * p.passed_share, 2),
+                    fixed(p.diameter_mm, 3)
+                ),
+            ));
+        }
+        self.beam = Some(figures);
     }
 
     fn part_name(bench: &Bench, compiled: &Compiled, surface: usize) -> String {
@@ -669,6 +702,9 @@ impl Report {
                     mm(s.move_to_best_focus_mm)
                 );
             }
+        }
+        if let Some(b) = &self.beam {
+            b.write_text(&mut t);
         }
         let ab = &self.aberrations;
         let _ = writeln!(t, "\nImage quality");

@@ -2,7 +2,7 @@
 //! words. Errors stop a bench from being traced; warnings travel with the report.
 
 use crate::compile;
-use crate::model::{Bench, MaterialSpec, ObjectSpec, Part, PartKind, SurfaceSpec};
+use crate::model::{Bench, Laser, MaterialSpec, ObjectSpec, Part, PartKind, SurfaceSpec};
 
 /// How serious a finding is.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
@@ -267,6 +267,9 @@ pub fn validate(bench: &Bench) -> Vec<Finding> {
             c.positive(None, "object", "the beam diameter", beam_diameter_mm);
         }
     }
+    if let Some(l) = &bench.laser {
+        laser(&mut c, bench, l, rail_ok);
+    }
     if bench.parts.len() > MAX_PARTS {
         c.error(None, "parts", format!("{} parts is more than the {MAX_PARTS} a bench may hold", bench.parts.len()));
         return c.findings;
@@ -464,5 +467,75 @@ fn aims(c: &mut Checker<'_>, bench: &Bench) {
                 need(tol(*at_least_mm), format!("the gap {at_least_mm} mm must be a number of at least 0"));
             }
         }
+    }
+}
+
+/// The laser's numbers: on the rail before every part, a positive waist diameter, M² of at least 1, a
+/// wavelength the bench lists (so every material is checked there and the rays show its colour), a
+/// positive power when given.
+fn laser(c: &mut Checker<'_>, bench: &Bench, l: &Laser, rail_ok: bool) {
+    if !l.at_mm.is_finite() || rail_ok && !(0.0..=bench.rail_length_mm).contains(&l.at_mm) {
+        c.error(
+            None,
+            "laser",
+            format!("the laser at {} mm must lie on the rail (0 to {} mm)", l.at_mm, bench.rail_length_mm),
+        );
+    } else if let Some(p) = bench
+        .parts
+        .iter()
+        .filter(|p| p.at_mm.is_finite() && p.at_mm < l.at_mm)
+        .min_by(|a, b| a.at_mm.total_cmp(&b.at_mm))
+    {
+        c.error(
+            None,
+            "laser",
+            format!(
+                "the laser at {} mm must come before every part: the {} \"{}\" at {} mm lies behind it",
+                l.at_mm,
+                p.kind.word(),
+                p.name,
+                p.at_mm
+            ),
+        );
+    }
+    if !(l.wavelength_nm.is_finite() && l.wavelength_nm > 0.0) {
+        c.error(
+            None,
+            "wavelength_nm",
+            format!("the laser's wavelength {} nm must be a positive number", l.wavelength_nm),
+        );
+    } else if !bench.wavelengths_nm.iter().any(|w| (w - l.wavelength_nm).abs() <= 1e-9 * l.wavelength_nm) {
+        c.error(
+            None,
+            "wavelength_nm",
+            format!(
+                "the laser's wavelength {} nm is not one of the bench's wavelengths; list it in wavelengths_nm, so that every material is checked there",
+                l.wavelength_nm
+            ),
+        );
+    }
+    c.positive(None, "waist_diameter_mm", "the laser's waist diameter (1/e²)", l.waist_diameter_mm);
+    if !l.waist_at_mm.is_finite() {
+        c.error(
+            None,
+            "waist_at_mm",
+            format!("the laser's waist position {} mm must be a finite number", l.waist_at_mm),
+        );
+    }
+    if !(l.m_squared.is_finite() && l.m_squared >= 1.0) {
+        c.error(
+            None,
+            "m_squared",
+            format!("the laser's beam quality M² = {} must be at least 1 (1 is a perfect Gaussian beam)", l.m_squared),
+        );
+    }
+    if let Some(p) = l.power_mw
+        && !(p.is_finite() && p > 0.0)
+    {
+        c.error(
+            None,
+            "power_mw",
+            format!("the laser's power {p} mW must be a positive number (leave it out for none)"),
+        );
     }
 }

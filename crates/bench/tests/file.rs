@@ -283,6 +283,7 @@ proptest! {
             object: if distant { ObjectSpec::Distant { field_deg: 1.5, beam_diameter_mm: 8.0 } } else { ObjectSpec::Point { at_mm: 0.0, height_mm: -2.5 } },
             parts: parts.into_iter().map(|(name, at_mm, kind, carrier_mm)| Part { name, at_mm, kind, carrier_mm, from_drawer: None }).collect(),
             aims: Vec::new(),
+            laser: None,
         };
         let text = to_text(&bench);
         let back: Bench = ron::from_str(&text).unwrap();

@@ -38,6 +38,7 @@
 
 pub mod analysis;
 pub mod batch;
+pub mod beam;
 pub mod field;
 pub mod library;
 pub mod material;

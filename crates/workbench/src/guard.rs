@@ -67,6 +67,7 @@ impl Workbench {
                     object: ObjectSpec::Point { at_mm: 0.0, height_mm: 5.0 },
                     parts: Vec::new(),
                     aims: Vec::new(),
+                    laser: None,
                 };
                 self.replace_document(Workbench::new(bench, None));
             }
