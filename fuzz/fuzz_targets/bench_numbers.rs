@@ -79,6 +79,7 @@ fuzz_target!(|input: Input| {
         },
         parts: input.parts.iter().enumerate().map(|(k, p)| part(k, p)).collect(),
         aims: Vec::new(),
+        laser: None,
     };
     let valid =
         lumenrail_bench::validate::validate(&bench).iter().all(|f| f.severity != lumenrail_bench::validate::Severity::Error);

@@ -7,7 +7,8 @@ mod fuzz_checks;
 
 fn files(dir: &str) -> Vec<std::path::PathBuf> {
     let root = std::path::Path::new(env!("CARGO_MANIFEST_DIR")).join("../..").join(dir);
-    let mut out: Vec<_> = std::fs::read_dir(&root).map_or_else(|_| Vec::new(), |d| d.flatten().map(|e| e.path()).collect());
+    let mut out: Vec<_> =
+        std::fs::read_dir(&root).map_or_else(|_| Vec::new(), |d| d.flatten().map(|e| e.path()).collect());
     out.retain(|p| p.is_file() && p.file_name().is_some_and(|n| n != ".gitkeep"));
     out.sort();
     out

@@ -147,27 +147,35 @@ fn svg_parses_renders_and_carries_the_numbers() {
                 let l = by_id("datum").children().find(|n| n.tag_name().name() == "line").unwrap();
                 attr(l, "x1")
             };
-            let mut px_per_mm = None;
+            // The drawing's scale from the part farthest from the datum (its rounding matters least there).
+            fn line_of<'a, 'i>(g: &roxmltree::Node<'a, 'i>) -> roxmltree::Node<'a, 'i> {
+                g.children().find(|n| n.attribute("class") == Some("dimension-line")).unwrap()
+            }
+            let (far_g, far_p) = dims
+                .iter()
+                .zip(&sheet.parts)
+                .max_by(|a, b| a.1.reference_mm.abs().total_cmp(&b.1.reference_mm.abs()))
+                .expect("a part");
+            let far = line_of(far_g);
+            let s = (attr(far, "x2") - attr(far, "x1")) / far_p.reference_mm;
+            // Coordinates are written to 1e-3 px: each length carries ±1e-3 px and the scale adds as much
+            // again scaled by ref/ref_max ≤ 1, so 2.5e-3 px over the scale bounds the error in mm.
+            let tol = 2.5e-3 / s.abs();
             for (g, p) in dims.iter().zip(&sheet.parts) {
                 assert_eq!(g.attribute("data-part"), Some(p.name.as_str()));
                 let value = g.children().find(|n| n.attribute("class") == Some("dimension")).unwrap();
                 assert_eq!(value.text().unwrap().trim(), f(p.reference_mm), "{name} {}", p.name);
-                let l = g.children().find(|n| n.attribute("class") == Some("dimension-line")).unwrap();
+                let l = line_of(g);
                 assert!((attr(l, "x1") - datum_x).abs() < 1e-9, "{name}: from the datum");
-                if p.reference_mm.abs() > 1.0 {
-                    let scale = (attr(l, "x2") - attr(l, "x1")) / p.reference_mm;
-                    let s = *px_per_mm.get_or_insert(scale);
-                    assert!(((attr(l, "x2") - attr(l, "x1")) / s - p.reference_mm).abs() < 2e-3, "{name} {}", p.name);
-                }
+                assert!(((attr(l, "x2") - attr(l, "x1")) / s - p.reference_mm).abs() < tol, "{name} {}", p.name);
             }
-            let s = px_per_mm.expect("a part away from the datum");
             let drawn: Vec<_> = doc.descendants().filter(|n| n.attribute("class") == Some("clear-aperture")).collect();
             let cas: Vec<f64> =
                 sheet.parts.iter().flat_map(|p| p.surfaces.iter().filter_map(|s| s.clear_aperture_mm)).collect();
             assert_eq!(drawn.len(), cas.len(), "{name}");
             for (n, ca) in drawn.into_iter().zip(cas) {
                 let len = (attr(n, "y2") - attr(n, "y1")).abs() / s;
-                assert!((len - ca).abs() < 2e-3, "{name}: clear aperture {len} vs {ca}");
+                assert!((len - ca).abs() < tol, "{name}: clear aperture {len} vs {ca}");
                 assert_eq!(n.attribute("data-value").unwrap(), f(ca));
             }
         }
