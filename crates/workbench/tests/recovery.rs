@@ -180,3 +180,23 @@ fn a_copy_of_a_running_workbench_is_not_offered() {
     Recovery::for_process(&data, 1).write(&bench, None, None).unwrap();
     assert!(Recovery::in_dir(&data).leftovers().is_empty());
 }
+
+#[test]
+fn closing_with_nothing_unsaved_leaves_no_copy() {
+    let dir = tempfile::tempdir().unwrap();
+    let path = demo_file(dir.path());
+    let data = dir.path().join("data");
+    let mut h = window(opened(&path, &data, Duration::from_secs(5)));
+    h.state_mut().workbench.selected = Some(0);
+    h.state_mut().workbench.nudge(5.0);
+    h.state_mut().workbench.autosave_now();
+    let copy = h.state().workbench.autosave_path().unwrap();
+    assert!(copy.exists());
+    // Undone back to the file, and closed before the idle time is up: the copy goes with the window.
+    h.key_press_modifiers(egui::Modifiers::COMMAND, Key::Z);
+    h.run();
+    assert!(!h.state().workbench.dirty());
+    h.input_mut().viewports.entry(egui::ViewportId::ROOT).or_default().events.push(egui::ViewportEvent::Close);
+    h.run();
+    assert!(!copy.exists());
+}
