@@ -22,6 +22,10 @@ struct Cli {
     /// The window's size when it opens, `WIDTHxHEIGHT` in points (default 1400x860, or as last closed).
     #[arg(long, value_name = "WxH", value_parser = parse_size)]
     window: Option<(u32, u32)>,
+    /// For the end-to-end tests: commands applied once the window is up (`move INDEX MM; restore;
+    /// save-as PATH; quit`).
+    #[arg(long, hide = true)]
+    script: Option<String>,
     #[command(subcommand)]
     command: Option<Command>,
 }
@@ -156,7 +160,7 @@ enum DrawerAction {
 fn main() -> ExitCode {
     let cli = Cli::parse();
     match cli.command {
-        None => match lumenrail_workbench::app::run(cli.file, cli.screenshot, cli.window) {
+        None => match lumenrail_workbench::app::run(cli.file, cli.screenshot, cli.window, cli.script) {
             Ok(()) => ExitCode::SUCCESS,
             Err(e) => {
                 eprintln!("lumenrail: {e}");

@@ -244,7 +244,7 @@ impl Workbench {
                     rfd::FileDialog::new().add_filter("bench", &["ron"]).set_file_name(name).set_title("Save bench as");
                 match dialog.save_file() {
                     Some(p) => {
-                        self.save_to(p);
+                        self.save_over(p, None);
                     }
                     None => self.status = NO_SAVE_DIALOG.into(),
                 }

@@ -1,12 +1,18 @@
 //! The window around the workbench: title with the unsaved mark, asking before closing with unsaved
 //! changes (Save / Discard / Cancel), opening dropped bench files, persisted settings, and the screenshot
-//! mode, which leaves the stored settings and recent files untouched.
+//! mode, which leaves the stored settings and recent files untouched. Outside screenshots the window
+//! autosaves the unsaved bench and offers back one left by a run that did not close normally
+//! ([`crate::recovery`]). A hidden `--script` (for the end-to-end tests) applies a few commands once the
+//! window is up, through the same calls the menus and buttons make.
 
 use crate::Workbench;
 use crate::guard::Replacement;
 use serde::{Deserialize, Serialize};
 use std::path::PathBuf;
 use std::sync::{Arc, Mutex};
+
+/// The program's name: the window's, and the name its per-user data folder is made from.
+pub const APP_NAME: &str = "Lumenrail";
 
 /// UI preferences kept between sessions (never the bench itself).
 #[derive(Debug, Clone, Serialize, Deserialize)]
@@ -36,6 +42,15 @@ pub struct WorkbenchApp {
     allow_close: bool,
     last_title: String,
     screenshot: Option<Screenshot>,
+    script: Option<Script>,
+}
+
+/// Commands applied once the window is up (the hidden `--script` of the end-to-end tests), separated by
+/// `;`: `move INDEX MM` (an edit, as a drag makes), `restore` (Restore in the recovery question),
+/// `save-as PATH`, `quit` (closes without asking).
+struct Script {
+    commands: Vec<String>,
+    frames: u32,
 }
 
 /// Writes one PNG of the window after the layout has settled, then closes.
@@ -71,7 +86,17 @@ impl WorkbenchApp {
                 requested: false,
                 done: Arc::new(Mutex::new(None)),
             }),
+            script: None,
         }
+    }
+
+    /// The same window, which also runs `script` once its first frames are drawn (see `--script`).
+    pub fn with_script(mut self, script: Option<String>) -> WorkbenchApp {
+        self.script = script.map(|s| Script {
+            commands: s.split(';').map(|c| c.trim().to_string()).filter(|c| !c.is_empty()).collect(),
+            frames: 0,
+        });
+        self
     }
 
     fn remember(&mut self) {
@@ -117,6 +142,11 @@ impl eframe::App for WorkbenchApp {
             self.allow_close = true;
             ctx.send_viewport_cmd(egui::ViewportCommand::Close);
         }
+        if ctx.input(|i| i.viewport().close_requested()) && (self.allow_close || !self.workbench.dirty()) {
+            // Closing with nothing unsaved, or with the changes discarded: no copy is left to offer back.
+            self.workbench.autosave_clear();
+        }
+        self.script_step(&ctx);
         self.screenshot_step(&ctx);
     }
 
@@ -138,6 +168,47 @@ impl eframe::App for WorkbenchApp {
 }
 
 impl WorkbenchApp {
+    fn script_step(&mut self, ctx: &egui::Context) {
+        let Some(s) = &mut self.script else { return };
+        s.frames += 1;
+        if s.frames < 3 {
+            ctx.request_repaint();
+            return;
+        }
+        let commands = std::mem::take(&mut s.commands);
+        self.script = None;
+        for c in commands {
+            let words: Vec<&str> = c.split_whitespace().collect();
+            let wb = &mut self.workbench;
+            match words.as_slice() {
+                ["move", index, at] => match (index.parse::<usize>(), at.parse::<f64>()) {
+                    (Ok(i), Ok(at_mm)) if i < wb.bench.parts.len() && at_mm.is_finite() => {
+                        wb.apply(crate::Edit::Move { index: i, at_mm }, None);
+                    }
+                    _ => eprintln!("script: `{c}`: no such part, or not a position"),
+                },
+                ["restore"] => {
+                    if wb.recovery_offer().is_none() {
+                        eprintln!("script: `restore`: no autosaved bench is offered");
+                    }
+                    wb.restore_recovered();
+                }
+                ["save-as", path] => {
+                    if !wb.save_to(PathBuf::from(path)) {
+                        eprintln!("script: {}", wb.status);
+                    }
+                }
+                ["quit"] => {
+                    self.allow_close = true;
+                    ctx.send_viewport_cmd(egui::ViewportCommand::Close);
+                }
+                _ => eprintln!("script: `{c}` is not a command (move INDEX MM, restore, save-as PATH, quit)"),
+            }
+            eprintln!("script: done `{c}`");
+        }
+        ctx.request_repaint();
+    }
+
     fn screenshot_step(&mut self, ctx: &egui::Context) {
         let Some(s) = &mut self.screenshot else { return };
         s.frames += 1;
@@ -172,9 +243,16 @@ impl WorkbenchApp {
 }
 
 /// Opens the workbench window on `file` (or the default demo), `window` points large (width, height) if
-/// given, else as it was last closed (1400 × 860 the first time).
-pub fn run(file: Option<PathBuf>, screenshot: Option<PathBuf>, window: Option<(u32, u32)>) -> Result<(), String> {
-    let workbench = match file {
+/// given, else as it was last closed (1400 × 860 the first time). Outside screenshots it autosaves to the
+/// data folder and offers back a bench left unsaved by a run that did not close normally. `script` is the
+/// hidden test-only `--script`.
+pub fn run(
+    file: Option<PathBuf>,
+    screenshot: Option<PathBuf>,
+    window: Option<(u32, u32)>,
+    script: Option<String>,
+) -> Result<(), String> {
+    let mut workbench = match file {
         Some(p) => {
             let mut wb = Workbench::demo(lumenrail_bench::demos::DEFAULT);
             if !wb.open(p.clone()) {
@@ -184,16 +262,21 @@ pub fn run(file: Option<PathBuf>, screenshot: Option<PathBuf>, window: Option<(u
         }
         None => Workbench::demo(lumenrail_bench::demos::DEFAULT),
     };
+    if screenshot.is_none()
+        && let Some(recovery) = crate::recovery::Recovery::from_environment()
+    {
+        workbench.start_autosave(recovery, crate::recovery::AUTOSAVE_IDLE);
+    }
     let size = window.map_or([1400.0, 860.0], |(w, h)| [w as f32, h as f32]);
     let options = eframe::NativeOptions {
-        viewport: egui::ViewportBuilder::default().with_inner_size(size).with_title("Lumenrail"),
+        viewport: egui::ViewportBuilder::default().with_inner_size(size).with_title(APP_NAME),
         persist_window: screenshot.is_none() && window.is_none(),
         ..Default::default()
     };
     eframe::run_native(
-        "Lumenrail",
+        APP_NAME,
         options,
-        Box::new(move |cc| Ok(Box::new(WorkbenchApp::new(cc, workbench, screenshot)))),
+        Box::new(move |cc| Ok(Box::new(WorkbenchApp::new(cc, workbench, screenshot).with_script(script)))),
     )
     .map_err(|e| e.to_string())
 }

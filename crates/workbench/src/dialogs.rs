@@ -114,11 +114,10 @@ impl Workbench {
                         true
                     }
                     PathPrompt::SaveAs => {
-                        let saved = self.save_to(path);
-                        if saved {
-                            self.saved_by_prompt();
-                        }
-                        saved
+                        let after = self.after_save.take();
+                        let saved = self.save_over(path, after);
+                        // A held-back save (the file changed on disk) asks its own question now.
+                        saved || self.disk_conflict.is_some()
                     }
                     PathPrompt::Export(view, png) => self.export_view(view, png, &path),
                     PathPrompt::Drawing => self.export_drawing(&path),

@@ -95,7 +95,7 @@ impl Workbench {
         let evaluation = Evaluation::of(&bench);
         let scene = Scene::of(&evaluation);
         Workbench {
-            saved: bench.clone(),
+            saved: Some(bench.clone()),
             bench,
             path,
             history: History::default(),
@@ -126,6 +126,11 @@ impl Workbench {
             typing: false,
             show_start: false,
             settings: crate::settings::SettingsSheet::default(),
+            on_disk: None,
+            disk_conflict: None,
+            save_failure: None,
+            autosave: None,
+            recovery_offer: None,
         }
     }
 
@@ -138,8 +143,11 @@ impl Workbench {
         wb
     }
 
-    /// Replaces the document, keeping the view preferences (snap, exaggeration, recent files).
+    /// Replaces the document, keeping the view preferences (snap, exaggeration, recent files) and the
+    /// autosave, whose copy of the old document goes (it was saved, or its changes discarded).
     pub(crate) fn replace_document(&mut self, next: Workbench) {
+        self.autosave_clear();
+        let (autosave, offer) = (self.autosave.take(), self.recovery_offer.take());
         let (snap_mm, exaggeration, recent) = (self.snap_mm, self.exaggeration, std::mem::take(&mut self.recent));
         let (shown, tab, grid) = (self.views.shown, self.views.tab, self.views.request.grid);
         let (drawer, left) = (std::mem::take(&mut self.drawer), self.left);
@@ -147,6 +155,7 @@ impl Workbench {
         (self.drawer, self.left) = (drawer, left);
         (self.snap_mm, self.exaggeration, self.recent) = (snap_mm, exaggeration, recent);
         (self.views.shown, self.views.tab, self.views.request.grid) = (shown, tab, grid);
+        (self.autosave, self.recovery_offer) = (autosave, offer);
     }
 
     /// Opens a bench file; on failure the current bench stays and the status says why.
@@ -154,6 +163,7 @@ impl Workbench {
         match file::load(&path) {
             Ok(loaded) => {
                 self.replace_document(Workbench::new(loaded.bench, Some(path.clone())));
+                self.on_disk = crate::disk::Stamp::of(&path).ok();
                 self.status = format!("opened {}", path.display());
                 if let Some(w) = loaded.warnings.first() {
                     self.status = w.to_string();
@@ -167,17 +177,23 @@ impl Workbench {
         }
     }
 
-    /// Saves to `path` (atomically); on success it becomes the bench's path.
+    /// Saves to `path` (atomically), whatever is there now; on success it becomes the bench's path and
+    /// the autosave copy goes. On failure the status line and a dialog say why, and the bench stays as
+    /// it was, unsaved.
     pub fn save_to(&mut self, path: PathBuf) -> bool {
         match file::save(&self.bench, &path) {
             Ok(()) => {
                 self.status = format!("saved {}", path.display());
-                self.saved = self.bench.clone();
+                self.saved = Some(self.bench.clone());
+                self.on_disk = crate::disk::Stamp::of(&path).ok();
                 self.path = Some(path);
+                self.autosave_clear();
                 true
             }
             Err(e) => {
-                self.status = e.to_string();
+                let words = crate::disk::failure_words(&e);
+                self.status.clone_from(&words);
+                self.save_failure = Some(words);
                 false
             }
         }
@@ -185,7 +201,7 @@ impl Workbench {
 
     /// Whether there are unsaved changes.
     pub fn dirty(&self) -> bool {
-        self.bench != self.saved
+        self.saved.as_ref() != Some(&self.bench)
     }
 
     /// The window title: file name (or the bench's title) and an unsaved mark.
@@ -260,6 +276,7 @@ impl Workbench {
     /// Recomputes the report and the scene from the bench.
     pub fn refresh(&mut self) {
         self.revision += 1;
+        self.autosave_touch();
         self.evaluation = Evaluation::of(&self.bench);
         self.scene = Scene::of(&self.evaluation);
     }

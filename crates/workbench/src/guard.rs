@@ -54,7 +54,7 @@ impl Workbench {
         std::mem::take(&mut self.close_now)
     }
 
-    fn go_ahead(&mut self, r: Replacement) {
+    pub(crate) fn go_ahead(&mut self, r: Replacement) {
         match r {
             Replacement::New => {
                 let bench = Bench {
@@ -90,38 +90,31 @@ impl Workbench {
     /// Saves the bench, through Save As when it has no file yet; then `after` goes ahead. Returns whether
     /// the bench was saved at once (Save As by a typed path finishes later, in its prompt).
     pub(crate) fn save_then(&mut self, after: Option<Replacement>) -> bool {
-        if let Some(p) = self.path.clone() {
-            let saved = self.save_to(p);
-            if saved && let Some(r) = after {
-                self.go_ahead(r);
-            }
-            return saved;
-        }
-        let dialog = rfd::FileDialog::new()
-            .add_filter("bench", &["ron"])
-            .set_file_name("bench.bench.ron")
-            .set_title("Save bench as");
-        match dialog.save_file() {
-            Some(p) => {
-                let saved = self.save_to(p);
-                if saved && let Some(r) = after {
-                    self.go_ahead(r);
-                }
-                saved
-            }
-            None => {
-                // No desktop dialog (or it was cancelled): ask for a path, and go ahead once saved.
-                self.after_save = after;
-                self.path_prompt = Some((PathPrompt::SaveAs, "bench.bench.ron".into()));
-                false
-            }
+        match self.path.clone() {
+            Some(p) => self.save_over(p, after),
+            None => self.save_elsewhere(after),
         }
     }
 
-    /// Called when a typed Save As succeeded: the action that waited for the save goes ahead.
-    pub(crate) fn saved_by_prompt(&mut self) {
-        if let Some(r) = self.after_save.take() {
-            self.go_ahead(r);
+    /// Saves under a new name: the desktop's Save As dialog, else a typed path; then `after` goes ahead.
+    /// Returns whether the bench was saved at once.
+    pub(crate) fn save_elsewhere(&mut self, after: Option<Replacement>) -> bool {
+        let name = self
+            .path
+            .as_ref()
+            .and_then(|p| p.file_name())
+            .map_or_else(|| "bench.bench.ron".into(), |n| n.to_string_lossy().into_owned());
+        let dialog =
+            rfd::FileDialog::new().add_filter("bench", &["ron"]).set_file_name(&name).set_title("Save bench as");
+        match dialog.save_file() {
+            Some(p) => self.save_over(p, after),
+            None => {
+                // No desktop dialog (or it was cancelled): ask for a path, and go ahead once saved.
+                self.after_save = after;
+                let current = self.path.as_ref().map_or(name, |p| p.display().to_string());
+                self.path_prompt = Some((PathPrompt::SaveAs, current));
+                false
+            }
         }
     }
 
@@ -156,6 +149,7 @@ impl Workbench {
             }
             Some(Answer::Discard) => {
                 self.unsaved_question = None;
+                self.autosave_clear();
                 self.go_ahead(r);
             }
             Some(Answer::Cancel) => self.unsaved_question = None,

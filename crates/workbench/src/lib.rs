@@ -10,6 +10,7 @@ pub mod actions;
 pub mod app;
 pub mod arranger;
 mod dialogs;
+pub mod disk;
 mod document;
 pub mod drawer;
 pub mod guard;
@@ -18,6 +19,7 @@ pub mod mount;
 pub mod plots;
 mod rail;
 mod readout;
+pub mod recovery;
 mod settings;
 mod sheet;
 
@@ -39,7 +41,8 @@ pub struct Workbench {
     pub bench: Bench,
     /// Where it was opened from or last saved to.
     pub path: Option<PathBuf>,
-    saved: Bench,
+    /// The bench as its file holds it (None: not saved anywhere in this form, e.g. a restored copy).
+    saved: Option<Bench>,
     history: History,
     /// Key of the last merged edit (a drag, or typing in one field): later edits with the same key join its
     /// undo step.
@@ -91,6 +94,16 @@ pub struct Workbench {
     pub(crate) show_start: bool,
     /// The bench settings sheet.
     pub(crate) settings: settings::SettingsSheet,
+    /// The bench file's stamp when it was opened or last saved here.
+    pub(crate) on_disk: Option<disk::Stamp>,
+    /// The save held back because the file changed on disk.
+    pub(crate) disk_conflict: Option<disk::Conflict>,
+    /// Why the last save failed, while its dialog is open.
+    pub(crate) save_failure: Option<String>,
+    /// Autosave (None: off, as in tests and screenshots).
+    pub(crate) autosave: Option<recovery::Autosave>,
+    /// An autosaved bench from an earlier run, offered back.
+    pub(crate) recovery_offer: Option<recovery::Found>,
 }
 
 /// What a typed path is for.
@@ -164,6 +177,9 @@ impl Workbench {
         self.settings_ui(ui.ctx());
         self.mount_ui(ui.ctx());
         self.unsaved_ui(ui.ctx());
+        self.disk_ui(ui.ctx());
+        self.recovery_ui(ui.ctx());
+        self.autosave_step(ui.ctx());
         self.typing |= ui.ctx().memory(|m| m.focused().is_some());
         if self.revision != revision {
             // A drag or an entry changed the bench after the readout was drawn: draw the frame again, so

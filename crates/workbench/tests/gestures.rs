@@ -418,6 +418,8 @@ fn every_fixed_text_has_glyphs_in_the_bundled_fonts() {
         NO_OPEN_DIALOG.into(),
         NO_SAVE_DIALOG.into(),
     ];
+    let dialogs = lumenrail_workbench::disk::TEXTS.iter().chain(lumenrail_workbench::recovery::TEXTS);
+    texts.extend(dialogs.map(|t| (*t).to_string()));
     for a in ACTIONS {
         texts.push(a.label.into());
         texts.push(a.action.keys_text());
