@@ -129,8 +129,17 @@ impl eframe::App for WorkbenchApp {
             ctx.send_viewport_cmd(egui::ViewportCommand::Title(title.clone()));
             self.last_title = title;
         }
+        // The drawer's unsaved changes are asked about first (Save drawer as / Discard / Cancel).
+        if ctx.input(|i| i.viewport().close_requested()) && self.workbench.drawer.dirty && self.screenshot.is_none() {
+            ctx.send_viewport_cmd(egui::ViewportCommand::CancelClose);
+            self.workbench.drawer.close_question = true;
+        }
+        if std::mem::take(&mut self.workbench.drawer.close_again) {
+            ctx.send_viewport_cmd(egui::ViewportCommand::Close);
+        }
         // Ask before closing with unsaved changes (Save / Discard / Cancel, the workbench's own question).
         if ctx.input(|i| i.viewport().close_requested())
+            && !self.workbench.drawer.dirty
             && self.workbench.dirty()
             && !self.allow_close
             && self.screenshot.is_none()

@@ -42,6 +42,10 @@ pub struct DrawerPanel {
     pub sort: SortBy,
     /// Each item's focal length at the wavelength it was computed for (computed when the panel shows).
     focal: Option<(f64, Vec<Option<f64>>)>,
+    /// Whether closing the window waits for an answer about the drawer's unsaved changes.
+    pub close_question: bool,
+    /// Set when that answer lets the window close: the close is asked for again.
+    pub close_again: bool,
 }
 
 impl Default for DrawerPanel {
@@ -55,6 +59,8 @@ impl Default for DrawerPanel {
             diameter: None,
             sort: SortBy::Drawer,
             focal: None,
+            close_question: false,
+            close_again: false,
         }
     }
 }
@@ -193,6 +199,35 @@ impl Workbench {
                 false
             }
         }
+    }
+}
+
+impl Workbench {
+    /// The question before closing with an unsaved drawer: save it, discard its changes, or stay.
+    pub(crate) fn drawer_question_ui(&mut self, ctx: &egui::Context) {
+        if !self.drawer.close_question {
+            return;
+        }
+        egui::Modal::new(egui::Id::unique("drawer-unsaved")).show(ctx, |ui| {
+            ui.heading("The drawer has unsaved changes");
+            ui.label("Save the drawer before the window closes?");
+            ui.horizontal(|ui| {
+                if ui.button("Save drawer as…").clicked() {
+                    self.drawer.close_question = false;
+                    let start =
+                        self.drawer.path.as_ref().map_or_else(|| "my.drawer.ron".into(), |p| p.display().to_string());
+                    self.path_prompt = Some((crate::PathPrompt::SaveDrawer, start));
+                }
+                if ui.button("Discard the drawer's changes").clicked() {
+                    self.drawer.close_question = false;
+                    self.drawer.dirty = false;
+                    self.drawer.close_again = true;
+                }
+                if ui.button("Cancel").clicked() {
+                    self.drawer.close_question = false;
+                }
+            });
+        });
     }
 }
 

@@ -176,6 +176,7 @@ impl Workbench {
         self.windows_ui(ui.ctx());
         self.settings_ui(ui.ctx());
         self.mount_ui(ui.ctx());
+        self.drawer_question_ui(ui.ctx());
         self.unsaved_ui(ui.ctx());
         self.disk_ui(ui.ctx());
         self.recovery_ui(ui.ctx());

@@ -63,3 +63,29 @@ fn closing_with_unsaved_changes_asks_first() {
     h.run();
     assert!(h.query_by_label_contains("has changes that are not saved").is_none());
 }
+
+/// Closing with an unsaved drawer (a part taken into it) asks about the drawer first; Cancel keeps it,
+/// Discard lets the window close when the bench has nothing unsaved.
+#[test]
+fn closing_with_an_unsaved_drawer_asks_first() {
+    let mut h = app("one-lens-screen");
+    h.state_mut().workbench.selected = Some(0);
+    h.state_mut().workbench.add_selected_to_drawer();
+    h.run();
+    assert!(h.state().workbench.drawer.dirty && !h.state().workbench.dirty());
+    let id = egui::ViewportId::ROOT;
+    h.input_mut().viewports.entry(id).or_default().events.push(egui::ViewportEvent::Close);
+    h.run();
+    let _ = h.get_by_label("The drawer has unsaved changes");
+    let _ = h.get_by_label("Save drawer as…");
+    h.get_by_label("Cancel").click();
+    h.run();
+    assert!(h.query_by_label("The drawer has unsaved changes").is_none());
+    assert!(h.state().workbench.drawer.dirty);
+    h.input_mut().viewports.entry(id).or_default().events.push(egui::ViewportEvent::Close);
+    h.run();
+    h.get_by_label("Discard the drawer's changes").click();
+    h.run();
+    assert!(!h.state().workbench.drawer.dirty);
+    assert!(h.query_by_label("The drawer has unsaved changes").is_none());
+}
