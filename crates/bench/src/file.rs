@@ -261,6 +261,23 @@ pub(crate) fn place_of_offset(text: &str, offset: usize) -> Place {
     Place { line, col }
 }
 
+/// The value of the RON string literal that `text` starts with (escapes read as RON reads them).
+fn string_literal(text: &str) -> Option<String> {
+    let b = text.as_bytes();
+    if b.first() != Some(&b'"') {
+        return None;
+    }
+    let mut i = 1;
+    while i < b.len() {
+        match b[i] {
+            b'\\' => i += 2,
+            b'"' => return ron::from_str::<String>(&text[..=i]).ok(),
+            _ => i += 1,
+        }
+    }
+    None
+}
+
 /// Finds where things are in bench (or drawer) text: keys outside strings and comments, and each part by
 /// its name (each drawer item by its place in the list).
 pub(crate) struct Locator<'a> {
@@ -326,12 +343,11 @@ impl<'a> Locator<'a> {
     /// the `nth` such part for duplicate names.
     fn part_span(&self, name: &str, nth: usize) -> Option<(usize, usize)> {
         let starts = self.item_keys("parts", "name");
-        let quoted = format!("\"{name}\"");
         let mut seen = 0;
         for (k, &at) in starts.iter().enumerate() {
             let end = starts.get(k + 1).copied().unwrap_or(self.text.len());
             let after = self.text[at + 4..].trim_start().strip_prefix(':').map(str::trim_start);
-            if after.is_some_and(|s| s.starts_with(&quoted)) {
+            if after.and_then(string_literal).is_some_and(|s| s == name) {
                 if seen == nth {
                     // The part's tuple opens before its name; search back to its `(`.
                     let open = self.text[..at].rfind('(').unwrap_or(at);

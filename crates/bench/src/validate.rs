@@ -29,6 +29,13 @@ pub struct Finding {
 
 /// Most parts a bench may hold.
 pub const MAX_PARTS: usize = 500;
+/// The longest rail a bench may have, mm (100 m).
+pub const MAX_RAIL_MM: f64 = 100_000.0;
+
+/// The wavelengths a bench may list, nm: deep ultraviolet to far infrared (each material still checks
+/// its own range).
+pub const WAVELENGTH_RANGE_NM: std::ops::RangeInclusive<f64> = 100.0..=100_000.0;
+
 /// Most wavelengths a bench may list.
 pub const MAX_WAVELENGTHS: usize = 32;
 
@@ -201,7 +208,15 @@ pub fn validate(bench: &Bench) -> Vec<Finding> {
             format!("format {} is not one this program reads (it reads format {})", bench.format, crate::model::FORMAT),
         );
     }
-    let rail_ok = c.positive(None, "rail_length_mm", "the rail length", bench.rail_length_mm);
+    let mut rail_ok = c.positive(None, "rail_length_mm", "the rail length", bench.rail_length_mm);
+    if rail_ok && bench.rail_length_mm > MAX_RAIL_MM {
+        rail_ok = false;
+        c.error(
+            None,
+            "rail_length_mm",
+            format!("a rail of {} mm is longer than the {MAX_RAIL_MM} mm (100 m) a bench may be", bench.rail_length_mm),
+        );
+    }
     if bench.wavelengths_nm.is_empty() {
         c.error(None, "wavelengths_nm", "at least one wavelength is needed".into());
     }
@@ -215,6 +230,16 @@ pub fn validate(bench: &Bench) -> Vec<Finding> {
     for &wl in &bench.wavelengths_nm {
         if !(wl.is_finite() && wl > 0.0) {
             c.error(None, "wavelengths_nm", format!("wavelength {wl} nm must be a positive number"));
+        } else if !WAVELENGTH_RANGE_NM.contains(&wl) {
+            c.error(
+                None,
+                "wavelengths_nm",
+                format!(
+                    "wavelength {wl} nm is outside the {} to {} nm that optics on a rail work in",
+                    WAVELENGTH_RANGE_NM.start(),
+                    WAVELENGTH_RANGE_NM.end()
+                ),
+            );
         }
     }
     if bench.primary_wavelength >= bench.wavelengths_nm.len() && !bench.wavelengths_nm.is_empty() {
@@ -278,6 +303,16 @@ pub fn validate(bench: &Bench) -> Vec<Finding> {
     for (i, p) in bench.parts.iter().enumerate() {
         if p.name.trim().is_empty() {
             c.error(Some(i), "name", format!("the {} at {} mm needs a name", p.kind.word(), p.at_mm));
+        } else if p.name.chars().any(char::is_control) || p.name.contains('\u{feff}') {
+            c.error(
+                Some(i),
+                "name",
+                format!(
+                    "the name of the {} at {} mm holds a line break or another control character; a name is one line",
+                    p.kind.word(),
+                    p.at_mm
+                ),
+            );
         } else if let Some(first) = bench.parts[..i].iter().position(|q| q.name == p.name) {
             c.error(
                 Some(i),

@@ -316,3 +316,25 @@ fn wavelength_weights_are_optional_checked_and_kept() {
         assert!(e.diagnostics[0].message.contains(words), "{e}");
     }
 }
+
+/// Found by fuzzing (bench_numbers, a timeout): a rail of 4e228 mm drew 4e225 scale ticks, and a
+/// wavelength of 1e-320 nm was accepted. Both are refused where they stand.
+#[test]
+fn an_absurd_rail_or_wavelength_is_refused() {
+    let long = one_lens_screen().replace("rail_length_mm: 1000.0", "rail_length_mm: 4.2641182955036555e228");
+    let e = parse("f", &long).unwrap_err();
+    assert!(e.diagnostics[0].message.contains("longer than the 100000 mm"), "{e}");
+    let tiny = one_lens_screen().replace("486.1327", "1.325e-320");
+    let e = parse("f", &tiny).unwrap_err();
+    assert!(e.diagnostics[0].message.contains("outside the 100 to 100000 nm"), "{e}");
+}
+
+/// Found by fuzzing (bench_file): a part name holding a line break and a byte-order mark broke the
+/// report's one-line-per-part text. A name is one line: control characters are refused at the name.
+#[test]
+fn a_name_with_a_line_break_is_refused_at_the_name() {
+    let text = one_lens_screen().replace("name: \"Screen\"", "name: \"Scr\\neen\"");
+    let e = parse("f", &text).unwrap_err();
+    assert!(e.diagnostics[0].message.contains("a name is one line"), "{e}");
+    assert_eq!(place_of(&e), (11, 10), "{e}");
+}

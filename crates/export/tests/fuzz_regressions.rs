@@ -41,3 +41,16 @@ fn drawer_file_findings_and_seeds_stay_fixed() {
         }
     }
 }
+
+/// The structured target's findings, decoded as libFuzzer hands them to it (`arbitrary_take_rest`).
+#[test]
+fn bench_numbers_findings_stay_fixed() {
+    use arbitrary::Arbitrary as _;
+    for path in files("fuzz/regressions/bench_numbers") {
+        let bytes = std::fs::read(&path).unwrap();
+        let Ok(input) = fuzz_checks::Input::arbitrary_take_rest(arbitrary::Unstructured::new(&bytes)) else { continue };
+        if let Some(bench) = input.bench() {
+            fuzz_checks::check_bench(&bench);
+        }
+    }
+}
