@@ -437,11 +437,8 @@ pub fn rank(a: &Candidate, b: &Candidate) -> std::cmp::Ordering {
         .then(a.miss.total_cmp(&b.miss))
         .then(none_last(a.rms_on_axis_um).total_cmp(&none_last(b.rms_on_axis_um)))
         .then(none_last(a.rms_off_axis_um).total_cmp(&none_last(b.rms_off_axis_um)))
-        .then(
-            none_last(b.off_axis_transmission.map(|t| -t))
-                .total_cmp(&none_last(a.off_axis_transmission.map(|t| -t)))
-                .reverse(),
-        )
+        // More of the off-axis pupil through ranks first (none: last).
+        .then(none_last(a.off_axis_transmission.map(|t| -t)).total_cmp(&none_last(b.off_axis_transmission.map(|t| -t))))
         .then(none_last(a.total_length_mm).total_cmp(&none_last(b.total_length_mm)))
         .then(a.parts.len().cmp(&b.parts.len()))
         .then_with(|| {
