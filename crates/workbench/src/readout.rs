@@ -120,6 +120,43 @@ impl Workbench {
                 }
             }
         }
+        if let Some(beam) = &r.beam {
+            ui.separator();
+            ui.strong(format!("Laser beam at {} nm (1/e² diameters)", fixed(beam.wavelength_nm, 1)));
+            let estimate = if beam.shares_are_estimates { " (estimate: M² > 1)" } else { "" };
+            for p in &beam.parts {
+                ui.add(
+                    egui::Label::new(format!(
+                        "{}: {} mm across, {}% passes{estimate}",
+                        p.part,
+                        fixed(p.diameter_mm, 3),
+                        fixed(100.0 * p.passed_share, 2)
+                    ))
+                    .wrap(),
+                );
+            }
+            for w in beam.waists.iter().filter(|w| w.real) {
+                let after =
+                    w.after_part.as_ref().map_or_else(|| "the laser's own".to_string(), |p| format!("after {p}"));
+                let irr = w
+                    .peak_irradiance_w_per_cm2
+                    .map_or_else(String::new, |i| format!(", peak {} W/cm²", lumenrail_bench::report::fixed(i, 3)));
+                ui.add(
+                    egui::Label::new(format!(
+                        "waist {after} at {} mm: {} mm across, Rayleigh range {} mm, far-field half-angle {} mrad{irr}",
+                        fixed(w.at_mm, 3),
+                        fixed(w.diameter_mm, 4),
+                        fixed(w.rayleigh_range_mm, 2),
+                        fixed(w.far_field_half_angle_mrad, 4)
+                    ))
+                    .wrap(),
+                );
+            }
+            for sc in &beam.screens {
+                ui.label(format!("on {}: {} mm across", sc.part, fixed(sc.diameter_mm, 3)));
+            }
+            // The laser caution is among the warnings below (the report's own).
+        }
         if !r.warnings.is_empty() {
             ui.separator();
             ui.strong("Warnings");

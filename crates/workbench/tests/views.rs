@@ -280,3 +280,16 @@ fn the_mount_sheet_window_shows_the_sheet_in_mm_or_inches_and_exports_it() {
     assert!(dxf.contains("SECTION") && dxf.contains("OUTLINE"), "not a DXF with our layers");
     let _ = std::fs::remove_file(&path);
 }
+
+/// A laser bench's readout gives the beam's 1/e² diameter at each part, its waists and the laser
+/// caution, from the report's beam figures (the expander's output waist is 5 × 0.8 mm: telescope relation).
+#[test]
+fn the_readout_shows_the_laser_beam_and_its_caution() {
+    let h = harness("laser-expander");
+    let _ = h.get_by_label_contains("Laser beam at 632.8 nm");
+    assert!(h.get_all_by_label_contains("Short lens S20: 0.").count() >= 1);
+    assert_eq!(h.get_all_by_label_contains("Lumenrail classifies nothing").count(), 1, "the caution, once");
+    let beam = h.state().evaluation.report.beam.clone().unwrap();
+    let last = beam.waists.last().unwrap();
+    assert!((last.diameter_mm - 4.0).abs() < 1e-3, "{last:?}");
+}
