@@ -64,7 +64,13 @@ pub struct Scene {
     pub rays: Vec<DrawnRay>,
     /// The images, intermediate and final.
     pub images: Vec<DrawnImage>,
+    /// A laser's 1/e² beam radius along the light path, as (rail position, radius) runs in mm, one run
+    /// per space between surfaces (empty without a laser).
+    pub beam: Vec<Vec<(f64, f64)>>,
 }
+
+/// Points of the drawn beam envelope in each space between surfaces (enough for a smooth waist).
+pub const BEAM_SAMPLES_PER_SPACE: usize = 48;
 
 impl Scene {
     /// What the rail draws of `evaluation`: its rail fans as polylines (ending at the last screen the light
@@ -94,6 +100,12 @@ impl Scene {
             .map(|&i| bench.parts[i].at_mm)
             .filter(|&z| (z - last_z) * dir >= 0.0)
             .max_by(|a, b| (a * dir).total_cmp(&(b * dir)));
+        // The laser's envelope: from its waist to the last screen it meets, or the rail's end (its start
+        // when the light returns).
+        if let Some(beam) = evaluation.traced.as_ref().and_then(|t| t.beam.as_ref()) {
+            let end = last_screen.unwrap_or(if dir > 0.0 { bench.rail_length_mm } else { 0.0 });
+            scene.beam = beam.envelope(f64::NEG_INFINITY, end, BEAM_SAMPLES_PER_SPACE);
+        }
         for fan in &evaluation.rail_fans {
             let Some(w) =
                 analysis.wavelengths.iter().find(|w| w.seq.wavelength_nm.total_cmp(&fan.wavelength_nm).is_eq())

@@ -97,3 +97,25 @@ fn the_rail_png_is_the_svg_drawing_at_the_chosen_size() {
     // Too large a picture is refused in words, not attempted.
     assert!(lumenrail_export::rail::rail_png(&evaluation, &scene, 9000, 500).is_err());
 }
+
+/// A laser bench's scene carries the beam's 1/e² envelope from the laser's waist to the last screen,
+/// the same beam as the report's (its radius on the far card is half the report's diameter there).
+#[test]
+fn the_scene_carries_the_laser_envelope_to_the_last_screen() {
+    let d = lumenrail_bench::demos::find("laser-expander").unwrap();
+    let bench = lumenrail_bench::file::parse(d.name, d.text).unwrap().bench;
+    let evaluation = Evaluation::of(&bench);
+    let scene = Scene::of(&evaluation);
+    assert!(!scene.beam.is_empty());
+    let (z_end, r_end) = *scene.beam.last().unwrap().last().unwrap();
+    let card = &evaluation.report.beam.as_ref().unwrap().screens[0];
+    assert!((z_end - card.at_mm).abs() < 1e-9, "{z_end} vs {}", card.at_mm);
+    assert!((2.0 * r_end - card.diameter_mm).abs() < 1e-9 * card.diameter_mm, "{r_end} vs {}", card.diameter_mm);
+    let (z0, r0) = scene.beam[0][0];
+    assert!((z0 - 20.0).abs() < 1e-12 && (2.0 * r0 - 0.8).abs() < 1e-12, "starts at the laser's waist");
+    // Without a laser there is no envelope.
+    let plain = Evaluation::of(
+        &lumenrail_bench::file::parse("t", lumenrail_bench::demos::find("unit-relay").unwrap().text).unwrap().bench,
+    );
+    assert!(Scene::of(&plain).beam.is_empty());
+}

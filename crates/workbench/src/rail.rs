@@ -165,6 +165,7 @@ pub(crate) fn rail_ui(wb: &mut Workbench, ui: &mut egui::Ui) {
     if object.on_hover_text("the object: click to edit it in the bench settings").clicked() {
         wb.open_settings();
     }
+    beam_ui(&painter, &f, wb);
     rays_ui(&painter, &f, wb);
     for img in &wb.scene.images {
         let base = f.at(img.at_mm, 0.0);
@@ -405,6 +406,28 @@ fn place_label(
     painter.galley(r.min, g, colour);
     placed.push(r);
     Some(r)
+}
+
+/// A laser's 1/e² envelope, shaded to scale (heights with the rail's exaggeration), with its edges drawn.
+fn beam_ui(painter: &egui::Painter, f: &Frame, wb: &Workbench) {
+    let fill = Color32::from_rgba_unmultiplied(230, 40, 40, 60);
+    let edge = Stroke::new(1.0, Color32::from_rgb(240, 90, 90));
+    for run in &wb.scene.beam {
+        let mut mesh = egui::Mesh::default();
+        for &(z, r) in run {
+            mesh.colored_vertex(f.at(z, r), fill);
+            mesh.colored_vertex(f.at(z, -r), fill);
+        }
+        for k in 0..run.len().saturating_sub(1) as u32 {
+            let i = 2 * k;
+            mesh.add_triangle(i, i + 1, i + 2);
+            mesh.add_triangle(i + 1, i + 3, i + 2);
+        }
+        painter.add(Shape::mesh(mesh));
+        for sign in [1.0, -1.0] {
+            painter.add(Shape::line(run.iter().map(|&(z, r)| f.at(z, sign * r)).collect(), edge));
+        }
+    }
 }
 
 /// A lens's surfaces at their vertices (empty for a part that is not a singlet or doublet).
