@@ -29,6 +29,11 @@ pub struct Finding {
 
 /// Most parts a bench may hold.
 pub const MAX_PARTS: usize = 500;
+/// The lengths a bench's diameters, thicknesses, focal lengths and radii may have, mm: a micrometre to a
+/// kilometre (numbers outside it are typing slips, and they break the arithmetic: a focal length of 1e-323
+/// mm overflows every power).
+pub const LENGTH_RANGE_MM: std::ops::RangeInclusive<f64> = 1e-3..=1e6;
+
 /// The longest rail a bench may have, mm (100 m).
 pub const MAX_RAIL_MM: f64 = 100_000.0;
 
@@ -61,14 +66,26 @@ impl Checker<'_> {
         format!("{word} \"{name}\"")
     }
 
-    /// A length that must be finite and positive.
+    /// A length that must be finite and positive, within [`LENGTH_RANGE_MM`].
     fn positive(&mut self, part: Option<usize>, field: &'static str, what: &str, v: f64) -> bool {
-        if v.is_finite() && v > 0.0 {
-            return true;
-        }
         let whose = part.map_or(String::new(), |i| format!("{}: ", self.who(i)));
-        self.error(part, field, format!("{whose}{what} must be a positive number of mm, not {v}"));
-        false
+        if !(v.is_finite() && v > 0.0) {
+            self.error(part, field, format!("{whose}{what} must be a positive number of mm, not {v}"));
+            return false;
+        }
+        if !LENGTH_RANGE_MM.contains(&v) {
+            self.error(
+                part,
+                field,
+                format!(
+                    "{whose}{what} of {v:e} mm is outside the {} to {} mm a bench's lengths may be",
+                    LENGTH_RANGE_MM.start(),
+                    LENGTH_RANGE_MM.end()
+                ),
+            );
+            return false;
+        }
+        true
     }
 
     fn surface(&mut self, i: usize, field: &'static str, s: &SurfaceSpec, semi_mm: f64) -> bool {
@@ -78,7 +95,7 @@ impl Checker<'_> {
             SurfaceSpec::Radius(r) => (r, 0.0),
             SurfaceSpec::Conic { radius, conic } => (radius, conic),
         };
-        if !radius.is_finite() || radius == 0.0 {
+        if !radius.is_finite() || radius == 0.0 || !LENGTH_RANGE_MM.contains(&radius.abs()) {
             let hint = if radius == 0.0 { " (a flat surface is spelled Flat)" } else { "" };
             self.error(Some(i), field, format!("{who}: radius {radius} mm is not a usable radius{hint}"));
             return false;
@@ -144,7 +161,7 @@ impl Checker<'_> {
         let semi = if d_ok { 0.5 * kind.diameter_mm() } else { f64::NAN };
         match kind {
             PartKind::ThinLens { focal_mm, .. } => {
-                if !focal_mm.is_finite() || *focal_mm == 0.0 {
+                if !focal_mm.is_finite() || !LENGTH_RANGE_MM.contains(&focal_mm.abs()) {
                     self.error(
                         Some(i),
                         "focal_mm",
@@ -208,15 +225,19 @@ pub fn validate(bench: &Bench) -> Vec<Finding> {
             format!("format {} is not one this program reads (it reads format {})", bench.format, crate::model::FORMAT),
         );
     }
-    let mut rail_ok = c.positive(None, "rail_length_mm", "the rail length", bench.rail_length_mm);
-    if rail_ok && bench.rail_length_mm > MAX_RAIL_MM {
-        rail_ok = false;
+    let rail_ok = if bench.rail_length_mm.is_finite() && bench.rail_length_mm > MAX_RAIL_MM {
         c.error(
             None,
             "rail_length_mm",
-            format!("a rail of {} mm is longer than the {MAX_RAIL_MM} mm (100 m) a bench may be", bench.rail_length_mm),
+            format!(
+                "a rail of {:e} mm is longer than the {MAX_RAIL_MM} mm (100 m) a bench may be",
+                bench.rail_length_mm
+            ),
         );
-    }
+        false
+    } else {
+        c.positive(None, "rail_length_mm", "the rail length", bench.rail_length_mm)
+    };
     if bench.wavelengths_nm.is_empty() {
         c.error(None, "wavelengths_nm", "at least one wavelength is needed".into());
     }

@@ -338,3 +338,15 @@ fn a_name_with_a_line_break_is_refused_at_the_name() {
     assert!(e.diagnostics[0].message.contains("a name is one line"), "{e}");
     assert_eq!(place_of(&e), (11, 10), "{e}");
 }
+
+/// Found by fuzzing (bench_numbers, NaN in the report): a thin lens of focal length 4e-323 mm and a
+/// beam 1e-317 mm across passed validation and overflowed every power. Lengths are now 1 µm to 1 km.
+#[test]
+fn lengths_outside_a_micrometre_to_a_kilometre_are_refused() {
+    let tiny_f = one_lens_screen().replace("focal_mm: 100.0", "focal_mm: 4e-323");
+    let e = parse("f", &tiny_f).unwrap_err();
+    assert!(e.diagnostics[0].message.contains("focal length"), "{e}");
+    let tiny_d = one_lens_screen().replace("diameter_mm: 40.0", "diameter_mm: 1e-307");
+    let e = parse("f", &tiny_d).unwrap_err();
+    assert!(e.diagnostics[0].message.contains("outside the 0.001 to 1000000 mm"), "{e}");
+}
