@@ -168,21 +168,7 @@ fn lenses_of(item: usize, it: &DrawerItem, wavelength_nm: f64) -> Vec<Lens> {
     let turns: &[bool] = if it.part.turned() == it.part { &[false] } else { &[false, true] };
     for &turned in turns {
         let kind = if turned { it.part.turned() } else { it.part.clone() };
-        let bench = Bench {
-            format: crate::model::FORMAT,
-            title: String::new(),
-            rail_length_mm: 1000.0,
-            wavelengths_nm: vec![wavelength_nm],
-            primary_wavelength: 0,
-            wavelength_weights: Vec::new(),
-            object: ObjectSpec::Distant { field_deg: 0.0, beam_diameter_mm: 1.0 },
-            parts: vec![Part { name: "L".into(), at_mm: 0.0, kind: kind.clone(), carrier_mm: None, from_drawer: None }],
-            aims: Vec::new(),
-            laser: None,
-        };
-        let Ok(compiled) = crate::compile::compile(&bench) else { continue };
-        let Ok(seq) = compiled.system.at(wavelength_nm) else { continue };
-        let Some(fo) = lumenrail_optics::paraxial::FirstOrder::of(&seq) else { continue };
+        let Some(fo) = crate::drawer::first_order_alone(&kind, wavelength_nm) else { continue };
         let (Some(f), Some(p1), Some(p2)) = (fo.efl_mm, fo.front_principal_at_mm, fo.back_principal_at_mm) else {
             continue;
         };

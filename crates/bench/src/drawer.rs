@@ -128,31 +128,33 @@ impl DrawerItem {
     /// iris, a flat mirror, a part without power, or a glass with no index at that wavelength. (The part is
     /// compiled on its own for this: one compilation.)
     pub fn focal_mm(&self, wavelength_nm: f64) -> Option<f64> {
-        if matches!(self.part, PartKind::Screen { .. } | PartKind::Iris { .. }) {
-            return None;
-        }
-        let bench = Bench {
-            format: crate::model::FORMAT,
-            title: String::new(),
-            rail_length_mm: 1.0 + self.part.thickness_mm().abs(),
-            wavelengths_nm: vec![wavelength_nm],
-            primary_wavelength: 0,
-            wavelength_weights: Vec::new(),
-            object: ObjectSpec::Distant { field_deg: 0.0, beam_diameter_mm: self.part.diameter_mm() },
-            parts: vec![Part {
-                name: self.label.clone(),
-                at_mm: 0.0,
-                kind: self.part.clone(),
-                carrier_mm: None,
-                from_drawer: None,
-            }],
-            aims: Vec::new(),
-            laser: None,
-        };
-        let compiled = compile::compile(&bench).ok()?;
-        let seq = compiled.system.at(wavelength_nm).ok()?;
-        crate::evaluation::part_first_order(&seq, 0)?.efl_mm
+        first_order_alone(&self.part, wavelength_nm)?.efl_mm
     }
+}
+
+/// The first-order figures of a part alone in air at `wavelength_nm`, its first vertex at rail 0 (so its
+/// principal planes are offsets from that vertex): the part compiled on its own (one compilation) and its
+/// surfaces' thick paraxial trace, as the bench's evaluation gives each part's own first order. `None`
+/// for an iris or a screen, a part without power, or a glass with no index at that wavelength.
+pub fn first_order_alone(kind: &PartKind, wavelength_nm: f64) -> Option<lumenrail_optics::paraxial::FirstOrder> {
+    if matches!(kind, PartKind::Screen { .. } | PartKind::Iris { .. }) {
+        return None;
+    }
+    let bench = Bench {
+        format: crate::model::FORMAT,
+        title: String::new(),
+        rail_length_mm: 1.0 + kind.thickness_mm().abs(),
+        wavelengths_nm: vec![wavelength_nm],
+        primary_wavelength: 0,
+        wavelength_weights: Vec::new(),
+        object: ObjectSpec::Distant { field_deg: 0.0, beam_diameter_mm: kind.diameter_mm() },
+        parts: vec![Part { name: "part".into(), at_mm: 0.0, kind: kind.clone(), carrier_mm: None, from_drawer: None }],
+        aims: Vec::new(),
+        laser: None,
+    };
+    let compiled = compile::compile(&bench).ok()?;
+    let seq = compiled.system.at(wavelength_nm).ok()?;
+    crate::evaluation::part_first_order(&seq, 0)
 }
 
 /// A loaded, valid drawer with the warnings validation found.

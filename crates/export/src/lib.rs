@@ -8,6 +8,7 @@
 
 pub mod colour;
 pub mod csv;
+pub mod date;
 pub mod mount;
 pub mod picture;
 pub mod plots;

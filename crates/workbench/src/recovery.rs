@@ -198,19 +198,9 @@ fn running(pid: u32) -> bool {
     cfg!(target_os = "linux") && Path::new("/proc").join(pid.to_string()).exists()
 }
 
-/// `YYYY-MM-DD HH:MM` in UTC (days to the civil calendar by H. Hinnant's algorithm).
+/// `YYYY-MM-DD HH:MM` in UTC.
 fn utc_text(secs: u64) -> String {
-    let z = (secs / 86_400) as i64 + 719_468;
-    let era = z.div_euclid(146_097);
-    let doe = z.rem_euclid(146_097);
-    let yoe = (doe - doe / 1460 + doe / 36_524 - doe / 146_096) / 365;
-    let doy = doe - (365 * yoe + yoe / 4 - yoe / 100);
-    let mp = (5 * doy + 2) / 153;
-    let day = doy - (153 * mp + 2) / 5 + 1;
-    let month = if mp < 10 { mp + 3 } else { mp - 9 };
-    let year = yoe + era * 400 + i64::from(month <= 2);
-    let (h, m) = (secs % 86_400 / 3600, secs % 3600 / 60);
-    format!("{year:04}-{month:02}-{day:02} {h:02}:{m:02}")
+    lumenrail_export::date::utc_text(secs, true)
 }
 
 /// The recovery question's fixed texts, for the glyph check.
