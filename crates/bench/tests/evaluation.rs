@@ -123,3 +123,25 @@ fn the_cheap_path_refuses_a_move_past_a_neighbour() {
     assert_eq!(placer.place(a, 350.0), Err(PlaceError::OrderChanged));
     assert!(placer.place(a, 120.0).is_ok());
 }
+
+/// The stress bench of the benchmarks (60 parts, 12 wavelengths, a 30° field the train vignettes): it is
+/// a valid bench, every figure of its report is finite, its field is integrated (clipped, so neither the
+/// rim certificate's 1 nor 0), and the integrated share is the same bit for bit on one thread and on
+/// two (its arms run on every core and are summed in a fixed order).
+#[test]
+fn the_heavy_train_evaluates_the_same_on_any_number_of_threads() {
+    let b = bench(&lumenrail_bench::demos::heavy_train_text());
+    assert_eq!(b.parts.len(), 60);
+    assert_eq!(b.wavelengths_nm.len(), 12);
+    let on = |threads: usize| {
+        let pool = rayon::ThreadPoolBuilder::new().num_threads(threads).build().unwrap();
+        pool.install(|| Evaluation::of(&b))
+    };
+    let (one, two) = (on(1), on(2));
+    assert!(one.findings.iter().all(|f| f.severity != lumenrail_bench::validate::Severity::Error));
+    let share = one.report.off_axis_area_transmission.expect("the off-axis share is integrated");
+    assert!(share > 0.05 && share < 0.95, "{share}");
+    assert_eq!(Some(share.to_bits()), two.report.off_axis_area_transmission.map(f64::to_bits));
+    let json = one.report.to_json();
+    assert!(!json.contains("NaN") && !json.contains("inf"), "non-finite figure in the report");
+}

@@ -13,6 +13,7 @@ use crate::skew::{self, SkewRay};
 use crate::skew_batch::{SkewBatch, trace_skew_batch};
 use crate::system::Sequence;
 use crate::trace::RayError;
+use rayon::prelude::*;
 
 /// One sample of the pupil: normalised coordinates and a quadrature weight (weights of a grid sum to 1).
 #[derive(Debug, Clone, Copy, PartialEq)]
@@ -471,31 +472,45 @@ pub fn pupil_transmission_integrated(seq: &Sequence, aimer: &SkewAimer, fraction
     let arm = |phi: f64| arm_share(seq, aimer, phi);
     const START: usize = 8;
     let h = std::f64::consts::TAU / START as f64;
-    // The starting grid's ends and midpoints, shared by neighbouring intervals (a(φ) is periodic).
-    let values: Vec<f64> = (0..2 * START).map(|j| arm(0.5 * h * j as f64)).collect();
-    let mut total = 0.0;
-    for k in 0..START {
-        let (a, b) = (k as f64 * h, (k + 1) as f64 * h);
-        let v = [values[2 * k], values[2 * k + 1], values[(2 * k + 2) % (2 * START)]];
-        let whole = h / 6.0 * (v[0] + 4.0 * v[1] + v[2]);
-        total += adaptive_simpson(&arm, a, b, v, whole, 1e-7 * h, 10);
-    }
+    // The starting grid's ends and midpoints, shared by neighbouring intervals (a(φ) is periodic). The
+    // arms, and then the intervals, are independent: they run on every core, and the intervals' parts are
+    // summed in their fixed order afterwards, so the share is the same bit for bit on any number of threads.
+    let values: Vec<f64> = (0..2 * START).into_par_iter().map(|j| arm(0.5 * h * j as f64)).collect();
+    let parts: Vec<f64> = (0..START)
+        .into_par_iter()
+        .map(|k| {
+            let (a, b) = (k as f64 * h, (k + 1) as f64 * h);
+            let v = [values[2 * k], values[2 * k + 1], values[(2 * k + 2) % (2 * START)]];
+            let whole = h / 6.0 * (v[0] + 4.0 * v[1] + v[2]);
+            adaptive_simpson(&arm, a, b, v, whole, 1e-7 * h, 10)
+        })
+        .collect();
+    let total = parts.iter().fold(0.0, |sum, part| sum + part);
     Ok((total / std::f64::consts::TAU).clamp(0.0, 1.0))
 }
 
-/// Σ(ρ₂² − ρ₁²) over the stretches of the arm at angle `phi` whose rays get through.
+/// Σ(ρ₂² − ρ₁²) over the stretches of the arm at angle `phi` whose rays get through, each pass/block edge
+/// found on the rays' clearance ([`skew::clearance`]).
 fn arm_share(seq: &Sequence, aimer: &SkewAimer, phi: f64) -> f64 {
     let (sin, cos) = phi.sin_cos();
     let inside = 1.0 - 1e-12;
-    let passes = |rho: f64| {
+    let clearance = |rho: f64| {
         let r = rho * inside;
-        aimer.ray_for(r * sin, r * cos).and_then(|ray| skew::trace(seq, ray)).is_ok()
+        aimer.ray_for(r * sin, r * cos).map_or(-1.0, |ray| skew::clearance(seq, ray))
     };
-    passing_measure((0.0, 1.0), 8, 1e-8, passes, |a, b| b * b - a * a)
+    passing_measure((0.0, 1.0), 8, 1e-8, clearance, |a, b| b * b - a * a)
 }
 
 /// Adaptive Simpson's rule on [a, b] with the ends' and midpoint's values known (Lyness 1969).
-fn adaptive_simpson(f: &dyn Fn(f64) -> f64, a: f64, b: f64, v: [f64; 3], whole: f64, tol: f64, depth: u32) -> f64 {
+fn adaptive_simpson(
+    f: &(dyn Fn(f64) -> f64 + Sync),
+    a: f64,
+    b: f64,
+    v: [f64; 3],
+    whole: f64,
+    tol: f64,
+    depth: u32,
+) -> f64 {
     let m = 0.5 * (a + b);
     let (flm, frm) = (f(0.5 * (a + m)), f(0.5 * (m + b)));
     let left = (m - a) / 6.0 * (v[0] + 4.0 * flm + v[1]);

@@ -103,5 +103,33 @@ fn frame_while_arranging(c: &mut Criterion) {
     h.state_mut().cancel_arranger();
 }
 
-criterion_group!(benches, drag_recompute, views_recompute, whole_frame, frame_while_arranging);
+/// A whole frame of the stress bench (`demos::heavy_train_text`: 60 parts, 12 wavelengths, a 30° field
+/// that the train vignettes, so its vignetting is integrated) while its objective is dragged, views panel
+/// open on the spot view and hidden. The target is 16 ms.
+fn whole_frame_heavy(c: &mut Criterion) {
+    let text = lumenrail_bench::demos::heavy_train_text();
+    let bench = lumenrail_bench::file::parse("heavy", &text).unwrap().bench;
+    let objective = bench.parts.iter().position(|p| p.name == "Objective").unwrap();
+    let mut g = c.benchmark_group("whole_frame_heavy");
+    for (name, views) in [("60 parts, 12 wavelengths, 30 deg, views open", true), ("the same, views hidden", false)] {
+        let mut wb = Workbench::new(bench.clone(), None);
+        wb.views.shown = views;
+        let mut h = egui_kittest::Harness::builder()
+            .with_size(egui::vec2(1400.0, 860.0))
+            .build_ui_state(|ui, wb: &mut Workbench| wb.ui(ui), wb);
+        h.run();
+        let mut k = 0u32;
+        g.bench_function(name, |b| {
+            b.iter(|| {
+                k = k.wrapping_add(1);
+                let at = h.state().bench.parts[objective].at_mm + if k.is_multiple_of(2) { 0.5 } else { -0.5 };
+                h.state_mut().apply(lumenrail_workbench::Edit::Move { index: objective, at_mm: at }, Some("bench"));
+                h.step();
+            })
+        });
+    }
+    g.finish();
+}
+
+criterion_group!(benches, drag_recompute, views_recompute, whole_frame, frame_while_arranging, whole_frame_heavy);
 criterion_main!(benches);

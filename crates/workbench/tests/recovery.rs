@@ -48,8 +48,13 @@ fn an_edit_is_autosaved_once_idle_and_the_save_removes_the_copy() {
     let note = Recovery::in_dir(&data).note_path();
     h.state_mut().workbench.selected = Some(0);
     h.state_mut().workbench.nudge(5.0);
+    let edited = std::time::Instant::now();
     h.run();
-    assert!(!copy.exists(), "written before the user was idle");
+    // On a loaded machine the frames themselves can outlast the idle time; only a copy written sooner
+    // than that is early.
+    if edited.elapsed() < Duration::from_millis(250) {
+        assert!(!copy.exists(), "written before the user was idle");
+    }
     std::thread::sleep(Duration::from_millis(350));
     h.run();
     assert!(copy.exists() && note.exists());
