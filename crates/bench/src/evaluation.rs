@@ -16,7 +16,7 @@ use crate::compile::{self, Compiled};
 use crate::model::{Bench, Laser, PartKind};
 use crate::report::Report;
 use crate::validate::{Finding, Severity, validate};
-use lumenrail_optics::analysis::{Analysis, PartialPlane, Request, analyse};
+use lumenrail_optics::analysis::{Analysis, PartialPlane, Request, Vignetting, analyse};
 use lumenrail_optics::beam::{BeamTrace, LaserSource};
 use lumenrail_optics::paraxial::{FirstOrder, Object};
 use lumenrail_optics::pupil::{FieldPoint, Pupils, meridional_fan};
@@ -104,6 +104,53 @@ pub struct Evaluation {
 impl Evaluation {
     /// Evaluates `bench` once.
     pub fn of(bench: &Bench) -> Evaluation {
+        Evaluation::evaluate(bench, true)
+    }
+
+    /// Evaluates `bench` once, as [`Evaluation::of`] does, except the off-axis point's vignetting when the
+    /// rim certificate cannot vouch for the whole field: that is left pending ([`Evaluation::vignetting_job`]
+    /// gives the work to run, on any thread; [`Evaluation::complete_vignetting`] fills it in), so that a
+    /// drag over a heavily vignetted bench need not wait for the integration. Completed, it is equal to
+    /// [`Evaluation::of`] in every figure.
+    pub fn live(bench: &Bench) -> Evaluation {
+        let mut e = Evaluation::evaluate(bench, false);
+        let certified = e.traced.as_ref().and_then(|t| {
+            let p = t.analysis.pupils().as_ref().ok()?;
+            Some(Vignetting::certified(t.analysis.seq(), t.compiled.object, p))
+        });
+        match certified {
+            Some(Some(whole)) => e.complete_vignetting(whole),
+            Some(None) => e.report.vignetting_pending = true,
+            None => e.complete_vignetting_without_pupils(),
+        }
+        e
+    }
+
+    /// The vignetting left pending by [`Evaluation::live`], as owned work for another thread.
+    pub fn vignetting_job(&self) -> Option<VignettingJob> {
+        if !self.report.vignetting_pending {
+            return None;
+        }
+        let t = self.traced.as_ref()?;
+        let (seq, pupils) = t.analysis.vignetting_inputs()?;
+        Some(VignettingJob { seq, object: t.compiled.object, pupils })
+    }
+
+    /// Fills in the vignetting figures (a [`VignettingJob`]'s result for this evaluation) and projects the
+    /// report anew from them.
+    pub fn complete_vignetting(&mut self, v: Vignetting) {
+        if let Some(t) = self.traced.as_mut() {
+            t.analysis.set_vignetting(v);
+        }
+        self.report = Report::project(&self.bench, &self.findings, self.traced.as_ref(), &self.screens, None);
+    }
+
+    /// A traced bench without pupils has no vignetting figures: nothing is pending.
+    fn complete_vignetting_without_pupils(&mut self) {
+        self.report.vignetting_pending = false;
+    }
+
+    fn evaluate(bench: &Bench, vignetting: bool) -> Evaluation {
         let findings = validate(bench);
         let screens: Vec<usize> = bench
             .rail_order()
@@ -117,7 +164,7 @@ impl Evaluation {
             failure = Some(errors.join("; "));
             None
         } else {
-            match trace(bench, &screens) {
+            match trace(bench, &screens, vignetting) {
                 Ok(t) => Some(t),
                 Err(why) => {
                     failure = Some(why);
@@ -144,8 +191,23 @@ impl Evaluation {
     }
 }
 
+/// The off-axis vignetting of one evaluation, owned, to run on any thread ([`Evaluation::live`]).
+#[derive(Debug, Clone)]
+pub struct VignettingJob {
+    seq: Sequence,
+    object: Object,
+    pupils: Pupils,
+}
+
+impl VignettingJob {
+    /// Integrates the vignetting ([`Vignetting::of`]).
+    pub fn run(&self) -> Vignetting {
+        Vignetting::of(&self.seq, self.object, &self.pupils)
+    }
+}
+
 /// Compiles and analyses a valid bench, or says why it cannot be traced.
-fn trace(bench: &Bench, screens: &[usize]) -> Result<Traced, String> {
+fn trace(bench: &Bench, screens: &[usize], vignetting: bool) -> Result<Traced, String> {
     let compiled = compile::compile(bench).map_err(|e| format!("unknown material \"{}\"", e.name))?;
     if compiled.system.surfaces.is_empty() {
         return Err("no part bends or limits the light (a bench of screens only)".into());
@@ -168,7 +230,7 @@ fn trace(bench: &Bench, screens: &[usize]) -> Result<Traced, String> {
         primary: bench.primary_wavelength,
         planes_mm,
         partial_planes,
-        vignetting: true,
+        vignetting,
         weights: bench.wavelength_weights.clone(),
     };
     count_analysis();

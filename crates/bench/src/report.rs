@@ -244,6 +244,11 @@ pub struct Report {
     /// The largest off-axis point (object height in mm, or field angle in degrees) whose whole pupil gets
     /// through (null when not found).
     pub unclipped_field: Option<f64>,
+    /// Whether the vignetting figures above are still being computed (a live evaluation in the workbench
+    /// while a heavily vignetted bench is dragged; never in the command line's report, and left out of
+    /// its JSON).
+    #[serde(skip_serializing_if = "std::ops::Not::not")]
+    pub vignetting_pending: bool,
     /// Field curvature, astigmatism, distortion and lateral colour of the off-axis point (null without a
     /// final image or an off-axis point).
     pub field: Option<FieldFigures>,
@@ -328,6 +333,7 @@ impl Report {
             off_axis_area_transmission: None,
             off_axis_clipped_by: None,
             unclipped_field: None,
+            vignetting_pending: false,
             field: None,
             colour: Vec::new(),
             viewing: None,
@@ -736,6 +742,9 @@ impl Report {
                 "  best focus for white light (every wavelength, {weights}) {} mm, RMS {r:.2} µm",
                 fixed(z, 3)
             );
+        }
+        if self.vignetting_pending {
+            let _ = writeln!(t, "  off-axis point's vignetting: being computed");
         }
         if let Some(v) = self.off_axis_transmission {
             let area = self

@@ -145,3 +145,28 @@ fn the_heavy_train_evaluates_the_same_on_any_number_of_threads() {
     let json = one.report.to_json();
     assert!(!json.contains("NaN") && !json.contains("inf"), "non-finite figure in the report");
 }
+
+/// A live evaluation, its pending vignetting run as a job and filled in, equals the whole evaluation in
+/// every figure, for every demo and the stress bench; where the rim certificate vouches for the field
+/// nothing is left pending, and the stress bench's clipped field is.
+#[test]
+fn a_live_evaluation_completed_equals_the_whole_one() {
+    let heavy = lumenrail_bench::demos::heavy_train_text();
+    let texts: Vec<&str> = DEMOS.iter().map(|d| d.text).chain([heavy.as_str()]).collect();
+    let mut pending = 0;
+    for text in texts {
+        let b = bench(text);
+        let whole = Evaluation::of(&b);
+        let mut live = Evaluation::live(&b);
+        if let Some(job) = live.vignetting_job() {
+            pending += 1;
+            assert!(live.report.vignetting_pending);
+            assert!(live.report.to_text().contains("vignetting: being computed"));
+            live.complete_vignetting(job.run());
+        }
+        assert!(!live.report.vignetting_pending);
+        assert_eq!(live.report.to_json(), whole.report.to_json(), "{}", b.title);
+        assert_eq!(live.report.to_text(), whole.report.to_text(), "{}", b.title);
+    }
+    assert!(pending >= 1, "the stress bench's clipped field is left pending");
+}

@@ -221,6 +221,22 @@ pub struct Analysis {
 }
 
 impl Analysis {
+    /// Fills in the off-axis point's vignetting figures (from [`Vignetting::of`], perhaps computed later
+    /// and elsewhere for this same analysis).
+    pub fn set_vignetting(&mut self, v: Vignetting) {
+        self.off_axis_transmission = v.transmission;
+        self.off_axis_area_transmission = v.area_transmission;
+        self.off_axis_clipped_by = v.clipped_by;
+        self.unclipped_field = v.unclipped_field;
+    }
+
+    /// The primary wavelength's sequence and its pupils: what [`Vignetting::of`] needs beside the object,
+    /// owned, so that it can run on another thread (`None` without pupils).
+    pub fn vignetting_inputs(&self) -> Option<(Sequence, Pupils)> {
+        let w = &self.wavelengths[self.primary];
+        Some((w.seq.clone(), w.pupils.as_ref().ok()?.clone()))
+    }
+
     /// The primary wavelength's system, stop and images.
     pub fn primary(&self) -> &Wavelength {
         &self.wavelengths[self.primary]
@@ -415,22 +431,57 @@ pub fn analyse_wavelengths(wavelengths: Vec<Wavelength>, request: &Request) -> R
     }
     analysis.partial_spots = request.partial_planes.iter().map(|plane| partial_spot(seq, object, *plane)).collect();
     if request.vignetting {
-        // A field whose rim clears every aperture passes whole: both shares are exactly 1.
-        let aimer = SkewAimer::new(seq, object, p, 1.0);
-        if aimer.as_ref().is_ok_and(|a| rim_clears_with(seq, a, p)) {
-            analysis.off_axis_transmission = Some(1.0);
-            analysis.off_axis_area_transmission = Some(1.0);
-            analysis.unclipped_field = Some(1.0);
-        } else {
-            analysis.off_axis_clipped_by = rim_clipper(seq, object, p, 1.0);
-            analysis.unclipped_field = clipped_field_limit(seq, object, p);
-            analysis.off_axis_transmission = Some(meridional_transmission(seq, object, p, FieldPoint::OffAxis));
-            analysis.off_axis_area_transmission =
-                aimer.ok().and_then(|a| pupil_transmission_integrated(seq, &a, 1.0).ok());
-        }
+        analysis.set_vignetting(Vignetting::of(seq, object, p));
     }
     analysis.field = field_figures(&analysis, object);
     Ok(analysis)
+}
+
+/// The off-axis point's vignetting: the figures of the same names on [`Analysis`], computed together.
+/// Either the rim certificate vouches for the whole field in a few dozen traces ([`Vignetting::certified`]),
+/// or the shares are integrated, which takes thousands (hundreds of µs to tens of ms): the workbench can
+/// leave that part to a background thread ([`Analysis::set_vignetting`] fills it in afterwards).
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Vignetting {
+    /// Share of the meridional pupil that passes.
+    pub transmission: Option<f64>,
+    /// Share of the pupil's area that passes.
+    pub area_transmission: Option<f64>,
+    /// The first surface that clips the pupil.
+    pub clipped_by: Option<usize>,
+    /// The largest share of the field whose pupil passes whole.
+    pub unclipped_field: Option<f64>,
+}
+
+impl Vignetting {
+    /// A field whose rim clears every aperture passes whole: both shares are exactly 1.
+    pub const WHOLE: Vignetting = Vignetting {
+        transmission: Some(1.0),
+        area_transmission: Some(1.0),
+        clipped_by: None,
+        unclipped_field: Some(1.0),
+    };
+
+    /// [`Vignetting::WHOLE`] when the rim certificate shows the whole field passes; `None` when the shares
+    /// must be integrated ([`Vignetting::of`]).
+    pub fn certified(seq: &Sequence, object: Object, pupils: &Pupils) -> Option<Vignetting> {
+        let aimer = SkewAimer::new(seq, object, pupils, 1.0);
+        aimer.as_ref().is_ok_and(|a| rim_clears_with(seq, a, pupils)).then_some(Vignetting::WHOLE)
+    }
+
+    /// Every vignetting figure: the certificate's when it holds, else integrated.
+    pub fn of(seq: &Sequence, object: Object, pupils: &Pupils) -> Vignetting {
+        let aimer = SkewAimer::new(seq, object, pupils, 1.0);
+        if aimer.as_ref().is_ok_and(|a| rim_clears_with(seq, a, pupils)) {
+            return Vignetting::WHOLE;
+        }
+        Vignetting {
+            clipped_by: rim_clipper(seq, object, pupils, 1.0),
+            unclipped_field: clipped_field_limit(seq, object, pupils),
+            transmission: Some(meridional_transmission(seq, object, pupils, FieldPoint::OffAxis)),
+            area_transmission: aimer.ok().and_then(|a| pupil_transmission_integrated(seq, &a, 1.0).ok()),
+        }
+    }
 }
 
 /// The figures of the light that has met only the first `plane.surfaces` surfaces, at the plane.

@@ -114,6 +114,8 @@ fn whole_frame_heavy(c: &mut Criterion) {
     for (name, views) in [("60 parts, 12 wavelengths, 30 deg, views open", true), ("the same, views hidden", false)] {
         let mut wb = Workbench::new(bench.clone(), None);
         wb.views.shown = views;
+        // As the window does: slow work goes to background threads.
+        wb.offload_slow_work(true);
         let mut h = egui_kittest::Harness::builder()
             .with_size(egui::vec2(1400.0, 860.0))
             .build_ui_state(|ui, wb: &mut Workbench| wb.ui(ui), wb);

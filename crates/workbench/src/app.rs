@@ -75,6 +75,8 @@ impl WorkbenchApp {
         workbench.snap_mm = settings.snap_mm;
         workbench.exaggeration = settings.exaggeration;
         workbench.views.shown = settings.views_shown;
+        // The window never waits for a slow integration or view (a screenshot takes the finished figures).
+        workbench.offload_slow_work(screenshot.is_none());
         WorkbenchApp {
             workbench,
             settings,

@@ -18,6 +18,7 @@ impl Workbench {
             return false;
         };
         let ext = path.extension().and_then(|e| e.to_str()).map(str::to_ascii_lowercase);
+        self.settle();
         let (what, bytes) = match ext.as_deref() {
             Some("png") => match lumenrail_export::rail::rail_png(&self.evaluation, &self.scene, w, h) {
                 Ok(bytes) => ("the rail drawing", bytes),

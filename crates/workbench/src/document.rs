@@ -131,6 +131,7 @@ impl Workbench {
             save_failure: None,
             autosave: None,
             recovery_offer: None,
+            background: Default::default(),
         }
     }
 
@@ -277,7 +278,7 @@ impl Workbench {
     pub fn refresh(&mut self) {
         self.revision += 1;
         self.autosave_touch();
-        self.evaluation = Evaluation::of(&self.bench);
+        self.evaluation = self.evaluate();
         self.scene = Scene::of(&self.evaluation);
     }
 

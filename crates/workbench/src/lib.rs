@@ -9,6 +9,7 @@
 pub mod actions;
 pub mod app;
 pub mod arranger;
+mod background;
 mod dialogs;
 pub mod disk;
 mod document;
@@ -104,6 +105,8 @@ pub struct Workbench {
     pub(crate) autosave: Option<recovery::Autosave>,
     /// An autosaved bench from an earlier run, offered back.
     pub(crate) recovery_offer: Option<recovery::Found>,
+    /// The vignetting integration off the frame.
+    pub(crate) background: background::Background,
 }
 
 /// What a typed path is for.
@@ -138,6 +141,8 @@ pub enum LeftPage {
 impl Workbench {
     /// Draws the whole workbench: menu bar, readout, part sheet, rail view and status line.
     pub fn ui(&mut self, ui: &mut egui::Ui) {
+        // Figures integrated off the frame arrive before anything is drawn.
+        self.background_step(ui.ctx());
         self.keys_ui(ui);
         let revision = self.revision;
         egui::Panel::top("menu").show(ui, |ui| self.menu_ui(ui));

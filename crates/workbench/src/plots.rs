@@ -1,6 +1,8 @@
 //! The views panel: the analysis views of the bench's evaluation (drawn by `lumenrail-export`'s plots,
 //! the same drawing the PNG export makes), their tabs, plane and pupil-pattern choices and exports. The
 //! views are computed only for the tab on show, and only when the bench's revision or the request changes.
+//! A view that has taken longer than its share of a frame is computed on a background thread from then on:
+//! the panel keeps showing the last one, marked "computing", until the new one arrives.
 
 use crate::{PathPrompt, Workbench};
 use lumenrail_bench::file::write_atomic;
@@ -9,6 +11,11 @@ use lumenrail_bench::report::fixed;
 use lumenrail_bench::views::{Plane, ViewKind, ViewRequest, Views};
 use lumenrail_optics::sampling::Grid;
 use std::path::{Path, PathBuf};
+use std::sync::mpsc::{Receiver, TryRecvError, channel};
+use std::time::{Duration, Instant};
+
+/// What a set of views was computed for: the bench revision, the request and the view.
+type ViewKey = (u64, ViewRequest, ViewKind);
 
 /// The views panel's state: which view, the request, and the views of the last bench revision.
 pub struct ViewsPanel {
@@ -20,12 +27,27 @@ pub struct ViewsPanel {
     pub request: ViewRequest,
     /// The typed plane position for [`Plane::At`].
     plane_mm: f64,
-    cache: Option<(u64, ViewRequest, ViewKind, Views)>,
+    cache: Option<(ViewKey, Views)>,
+    /// Whether the last computation took longer than [`crate::background::FRAME_SHARE`].
+    slow: bool,
+    /// The computation under way on the background thread.
+    pending: Option<Receiver<(ViewKey, Views, Duration)>>,
+    /// Whether slow views may be computed on a background thread ([`Workbench::offload_slow_work`]).
+    pub(crate) offload: bool,
 }
 
 impl Default for ViewsPanel {
     fn default() -> ViewsPanel {
-        ViewsPanel { shown: true, tab: ViewKind::Spot, request: ViewRequest::default(), plane_mm: 0.0, cache: None }
+        ViewsPanel {
+            shown: true,
+            tab: ViewKind::Spot,
+            request: ViewRequest::default(),
+            plane_mm: 0.0,
+            cache: None,
+            slow: false,
+            pending: None,
+            offload: false,
+        }
     }
 }
 
@@ -43,8 +65,19 @@ impl Workbench {
     }
 
     /// The views of the current bench with `kind` among them, recomputed only when the bench, the request
-    /// or the kind changed: only that view is computed.
+    /// or the kind changed: only that view is computed, here and now.
     fn views_of(&mut self, kind: ViewKind) -> &Views {
+        let key = self.view_key(kind);
+        if !self.views.cache.as_ref().is_some_and(|(k, _)| *k == key) {
+            let v = Views::only(&self.evaluation, &key.1, &[kind]);
+            self.views.cache = Some((key, v));
+        }
+        &self.views.cache.as_ref().expect("just filled").1
+    }
+
+    /// The request the panel makes of `kind` for the bench on screen. With the automatic plane, a selected
+    /// screen is the plane the spot and fan views look at.
+    fn view_key(&self, kind: ViewKind) -> ViewKey {
         let mut request = self.views.request.clone();
         if request.plane == Plane::Auto
             && let Some(part) = self.selected.and_then(|i| self.bench.parts.get(i))
@@ -58,16 +91,58 @@ impl Workbench {
         {
             request.plane = Plane::Screen(part.name.clone());
         }
-        let fresh = self
-            .views
-            .cache
-            .as_ref()
-            .is_some_and(|(rev, req, k, _)| *rev == self.revision && *req == request && *k == kind);
-        if !fresh {
-            let v = Views::only(&self.evaluation, &request, &[kind]);
-            self.views.cache = Some((self.revision, request, kind, v));
+        (self.revision, request, kind)
+    }
+
+    /// The views the panel shows for `kind`, and whether newer ones are being computed. Computed in the
+    /// frame while that is cheap; once a computation has taken more than its share of a frame, on the
+    /// background thread, the last views of this kind staying on show meanwhile (`None` when there are
+    /// none yet).
+    fn shown_views(&mut self, kind: ViewKind) -> (Option<&Views>, bool) {
+        use crate::background::FRAME_SHARE;
+        let key = self.view_key(kind);
+        if let Some(receive) = &self.views.pending {
+            match receive.try_recv() {
+                Ok((k, v, took)) => {
+                    self.views.pending = None;
+                    self.views.slow = took > FRAME_SHARE;
+                    self.views.cache = Some((k, v));
+                }
+                Err(TryRecvError::Empty) => {}
+                Err(TryRecvError::Disconnected) => {
+                    self.views.pending = None;
+                    self.views.slow = false;
+                }
+            }
         }
-        &self.views.cache.as_ref().expect("just filled").3
+        let fresh = self.views.cache.as_ref().is_some_and(|(k, _)| *k == key);
+        if !fresh && self.views.pending.is_none() {
+            if self.views.offload && self.views.slow {
+                let (send, receive) = channel();
+                let evaluation = self.evaluation.clone();
+                let job = key.clone();
+                std::thread::spawn(move || {
+                    let started = Instant::now();
+                    let v = Views::only(&evaluation, &job.1, &[job.2]);
+                    // The receiver is gone only when the panel is; then nobody needs the views.
+                    let _ = send.send((job, v, started.elapsed()));
+                });
+                self.views.pending = Some(receive);
+            } else {
+                let started = Instant::now();
+                let v = Views::only(&self.evaluation, &key.1, &[kind]);
+                self.views.slow = started.elapsed() > FRAME_SHARE;
+                self.views.cache = Some((key.clone(), v));
+            }
+        }
+        let computing = !self.views.cache.as_ref().is_some_and(|(k, _)| *k == key);
+        let shown = self.views.cache.as_ref().filter(|((_, _, k), _)| *k == kind).map(|(_, v)| v);
+        (shown, computing)
+    }
+
+    /// Whether the views panel is waiting for a view computed on the background thread.
+    pub fn views_computing(&self) -> bool {
+        self.views.pending.is_some()
     }
 
     /// Writes one view's CSV or PNG to `path` (atomically); the status line says what happened.
@@ -178,6 +253,22 @@ pub(crate) fn panel_ui(wb: &mut Workbench, ui: &mut egui::Ui) {
     let kind = wb.views.tab;
     // The plots take most of the panel; the figures beneath scroll, so the panel keeps the size it is given.
     let height = (ui.available_height() - 60.0).max(140.0);
-    let views = wb.views();
-    egui::ScrollArea::vertical().auto_shrink([false, false]).show(ui, |ui| draw_view(ui, views, kind, true, height));
+    let ctx = ui.ctx().clone();
+    let (views, computing) = wb.shown_views(kind);
+    if computing {
+        ui.horizontal(|ui| {
+            ui.spinner();
+            ui.label(if views.is_some() {
+                "computing: the view below is of the bench a moment ago"
+            } else {
+                "computing"
+            });
+        });
+        ctx.request_repaint_after(Duration::from_millis(15));
+    }
+    if let Some(views) = views {
+        egui::ScrollArea::vertical()
+            .auto_shrink([false, false])
+            .show(ui, |ui| draw_view(ui, views, kind, true, height));
+    }
 }

@@ -5,6 +5,9 @@ use crate::Workbench;
 use lumenrail_bench::model::ObjectSpec;
 use lumenrail_bench::report::fixed;
 
+/// Lists longer than this (intermediate images, screens before the last) fold away in the readout.
+const FOLD_AFTER: usize = 4;
+
 impl Workbench {
     pub(crate) fn readout_ui(&mut self, ui: &mut egui::Ui) {
         let r = &self.evaluation.report;
@@ -24,15 +27,24 @@ impl Workbench {
                 if img.real { "real" } else { "virtual" },
                 if img.erect { "erect" } else { "inverted" }
             ));
-            for (k, img) in r.images.iter().enumerate().take(r.images.len() - 1) {
-                let at = img.at_mm.map_or_else(|| "at infinity".to_string(), |z| format!("at {z:.3} mm"));
-                let m = img.magnification.map_or_else(String::new, |m| format!(", m = {m:.4}"));
-                ui.label(format!(
-                    "Intermediate image {} after {}: {at}, {}{m}",
-                    k + 1,
-                    img.after_part,
-                    if img.real { "real" } else { "virtual" }
-                ));
+            let intermediate = &r.images[..r.images.len() - 1];
+            let list = |ui: &mut egui::Ui| {
+                for (k, img) in intermediate.iter().enumerate() {
+                    let at = img.at_mm.map_or_else(|| "at infinity".to_string(), |z| format!("at {z:.3} mm"));
+                    let m = img.magnification.map_or_else(String::new, |m| format!(", m = {m:.4}"));
+                    ui.label(format!(
+                        "Intermediate image {} after {}: {at}, {}{m}",
+                        k + 1,
+                        img.after_part,
+                        if img.real { "real" } else { "virtual" }
+                    ));
+                }
+            };
+            // A long train's images fold away (a folded list costs a frame nothing).
+            if intermediate.len() <= FOLD_AFTER {
+                list(ui);
+            } else {
+                egui::CollapsingHeader::new(format!("{} intermediate images", intermediate.len())).show(ui, list);
             }
         }
         if let Some(v) = &r.viewing {
@@ -97,7 +109,7 @@ impl Workbench {
             let pc = fd.distortion_percent.map_or_else(|| "—".to_string(), |d| format!("{}%", fixed(d, 4)));
             ui.label(format!("Distortion {pc}, lateral colour {}", mm(fd.lateral_colour_mm)));
         }
-        for s in &r.screens {
+        let mut screen_ui = |ui: &mut egui::Ui, s: &lumenrail_bench::report::ScreenFigures| {
             ui.separator();
             let um = |v: Option<f64>| v.map_or_else(|| "—".to_string(), |v| format!("{v:.2} µm"));
             ui.label(format!(
@@ -119,6 +131,23 @@ impl Workbench {
                     to_best_focus = Some(index);
                 }
             }
+        };
+        // The last screen always shows; the others fold away on a long train.
+        let (others, last) = r.screens.split_at(r.screens.len().saturating_sub(1));
+        if others.len() < FOLD_AFTER {
+            for s in others {
+                screen_ui(ui, s);
+            }
+        } else {
+            ui.separator();
+            egui::CollapsingHeader::new(format!("{} more screens", others.len())).show(ui, |ui| {
+                for s in others {
+                    screen_ui(ui, s);
+                }
+            });
+        }
+        for s in last {
+            screen_ui(ui, s);
         }
         if let Some(beam) = &r.beam {
             ui.separator();
@@ -156,6 +185,13 @@ impl Workbench {
                 ui.label(format!("on {}: {} mm across", sc.part, fixed(sc.diameter_mm, 3)));
             }
             // The laser caution is among the warnings below (the report's own).
+        }
+        if r.vignetting_pending {
+            ui.separator();
+            ui.horizontal(|ui| {
+                ui.spinner();
+                ui.label("Vignetting of the off-axis point: being computed");
+            });
         }
         if !r.warnings.is_empty() {
             ui.separator();
