@@ -152,6 +152,7 @@ impl Input {
             parts: self.parts.iter().enumerate().map(|(k, p)| part(k, p)).collect(),
             aims: Vec::new(),
             laser: None,
+            tolerances: Vec::new(),
         };
         let valid = lumenrail_bench::validate::validate(&bench)
             .iter()
