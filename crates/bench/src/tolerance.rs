@@ -801,11 +801,12 @@ pub fn monte_carlo(
     let axial: Vec<f64> = ok.iter().filter_map(|t| t.axial_mm).filter(|v| v.is_finite()).collect();
     let mean = axial.iter().sum::<f64>() / axial.len().max(1) as f64;
     let axial_sigma_mm = (axial.iter().map(|a| (a - mean).powi(2)).sum::<f64>() / axial.len().max(1) as f64).sqrt();
-    let top = rms.last().copied().unwrap_or(0.0);
-    let bin_um = if top > 0.0 { top / HISTOGRAM_BINS as f64 } else { 1.0 };
+    // Bars from the least to the largest RMS radius (one bar 1 µm wide when every trial gives the same).
+    let (low, top) = (rms.first().copied().unwrap_or(0.0), rms.last().copied().unwrap_or(0.0));
+    let bin_um = if top > low { (top - low) / HISTOGRAM_BINS as f64 } else { 1.0 };
     let mut counts = vec![0; HISTOGRAM_BINS];
     for r in &rms {
-        counts[((r / bin_um) as usize).min(HISTOGRAM_BINS - 1)] += 1;
+        counts[(((r - low) / bin_um) as usize).min(HISTOGRAM_BINS - 1)] += 1;
     }
     Ok(MonteCarlo {
         options: *options,
@@ -817,7 +818,7 @@ pub fn monte_carlo(
         axial_mm: Percentiles::of(&sorted(|t| t.axial_mm.map(f64::abs))),
         axial_sigma_mm,
         refocus_mm: options.refocus.then(|| Percentiles::of(&sorted(|t| Some(t.refocus_mm.abs())))),
-        histogram: Histogram { from_um: 0.0, bin_um, counts },
+        histogram: Histogram { from_um: low, bin_um, counts },
     })
 }
 

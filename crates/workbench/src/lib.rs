@@ -22,6 +22,7 @@ mod readout;
 pub mod recovery;
 mod settings;
 mod sheet;
+pub mod tolerance;
 
 pub use dialogs::{GETTING_STARTED, SAFETY};
 use document::History;
@@ -74,6 +75,8 @@ pub struct Workbench {
     pub left: LeftPage,
     /// The mount sheet window.
     pub mount: mount::MountWindow,
+    /// The tolerance window.
+    pub tolerance: tolerance::ToleranceWindow,
     /// The size the drawing export lays the rail out for, `WIDTHxHEIGHT` (pixels for PNG, points for SVG).
     pub(crate) drawing_size: String,
     /// Counts changes to the bench, so that a frame can tell whether it changed while being drawn.
@@ -176,6 +179,7 @@ impl Workbench {
         self.windows_ui(ui.ctx());
         self.settings_ui(ui.ctx());
         self.mount_ui(ui.ctx());
+        self.tolerance_ui(ui.ctx());
         self.drawer_question_ui(ui.ctx());
         self.unsaved_ui(ui.ctx());
         self.disk_ui(ui.ctx());

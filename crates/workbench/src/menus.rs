@@ -58,6 +58,7 @@ impl Workbench {
             ui.menu_button("View", |ui| {
                 self.action_button(ui, Action::FitBench);
                 self.action_button(ui, Action::MountSheet);
+                self.action_button(ui, Action::ToleranceRun);
                 let mut shown = self.views.shown;
                 if ui.checkbox(&mut shown, Action::ToggleViews.info().label).changed() {
                     self.run(Action::ToggleViews);
