@@ -822,6 +822,16 @@ pub fn monte_carlo(
     })
 }
 
+/// `x` with `decimals` decimals, without the minus sign of a value that rounds to zero ("0.00", never
+/// "-0.00").
+pub fn fixed(x: f64, decimals: usize) -> String {
+    let s = format!("{x:.decimals$}");
+    match s.strip_prefix('-') {
+        Some(rest) if rest.chars().all(|c| c == '0' || c == '.') => rest.to_string(),
+        _ => s,
+    }
+}
+
 /// A whole tolerance run: the limits, sensitivities, budget and (when asked) the Monte Carlo.
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct ToleranceRun {
@@ -899,7 +909,7 @@ impl ToleranceRun {
             "  {:<20} {:>14} {:>12} {:>14} {:>12} {:>14} {:>12}",
             "part", "image mm/mm", "RMS ±1 mm", "µm/0.1 mm dec", "RMS ±0.1", "µm/0.1° tilt", "RMS ±0.1°"
         );
-        let v = |x: Option<f64>, d: usize| x.map_or_else(|| "n/a".to_string(), |x| format!("{x:.d$}"));
+        let v = |x: Option<f64>, d: usize| x.map_or_else(|| "n/a".to_string(), |x| fixed(x, d));
         for s in &self.sensitivities {
             let _ = writeln!(
                 t,
@@ -966,6 +976,10 @@ impl ToleranceRun {
             );
             if mc.failed > 0 {
                 let _ = writeln!(t, "  {} trials lost a ray (left out)", mc.failed);
+            }
+            if mc.trials == 0 {
+                t.push_str("  no trial gave figures: every one lost a ray\n");
+                return t;
             }
             let p = |p: &Percentiles, d: usize| format!("{:.d$} / {:.d$} / {:.d$}", p.p50, p.p90, p.p98);
             let _ = writeln!(t, "  RMS spot µm (50/90/98 %): {} (nominal {:.2})", p(&mc.rms_um, 2), mc.nominal_rms_um);

@@ -10,7 +10,7 @@ use lumenrail_bench::evaluation::{Evaluation, counters};
 use lumenrail_bench::file::{parse, to_text};
 use lumenrail_bench::model::{Bench, Pivot};
 use lumenrail_bench::tolerance::{
-    Distribution, MonteCarloOptions, PartErrors, Perturber, ToleranceRun, limits, monte_carlo,
+    Distribution, MonteCarloOptions, PartErrors, Perturber, ToleranceRun, fixed, limits, monte_carlo,
 };
 
 fn bench(text: &str) -> Bench {
@@ -246,4 +246,13 @@ fn tolerances_in_the_bench_file_are_read_saved_and_checked_in_place() {
     let twice = on_rail(ONE_LENS, "\n    tolerances: [\n        (part: \"L\"),\n        (part: \"L\"),\n    ],");
     let e = parse("bench.ron", &twice).unwrap_err();
     assert!(e.to_string().contains("listed twice"), "{e}");
+}
+
+/// Figures that round to zero are written without a minus sign.
+#[test]
+fn numbers_that_round_to_zero_have_no_sign() {
+    assert_eq!(fixed(-0.001, 2), "0.00");
+    assert_eq!(fixed(-0.01, 2), "-0.01");
+    assert_eq!(fixed(0.004, 2), "0.00");
+    assert_eq!(fixed(-12.5, 1), "-12.5");
 }

@@ -118,6 +118,7 @@ impl Workbench {
             left: crate::LeftPage::default(),
             mount: crate::mount::MountWindow::default(),
             tolerance: crate::tolerance::ToleranceWindow::default(),
+            inch: false,
             revision: 0,
             recent: Vec::new(),
             views: plots::ViewsPanel::default(),

@@ -75,6 +75,8 @@ pub struct Workbench {
     pub left: LeftPage,
     /// The mount sheet window.
     pub mount: mount::MountWindow,
+    /// Lengths on the rail's ruler and the sheets shown in inches (display only; files stay in mm).
+    pub inch: bool,
     /// The tolerance window.
     pub tolerance: tolerance::ToleranceWindow,
     /// The size the drawing export lays the rail out for, `WIDTHxHEIGHT` (pixels for PNG, points for SVG).

@@ -252,7 +252,7 @@ impl Workbench {
 
 fn sensitivities_ui(ui: &mut egui::Ui, run: &ToleranceRun) {
     ui.label("Image shift along the rail in mm per mm of the part's position; lateral image shifts in µm; RMS: the on-axis RMS spot's growth in µm for the ± move (mean of the two less the nominal).");
-    let v = |x: Option<f64>, d: usize| x.map_or_else(|| "n/a".to_string(), |x| format!("{x:.d$}"));
+    let v = |x: Option<f64>, d: usize| x.map_or_else(|| "n/a".to_string(), |x| lumenrail_bench::tolerance::fixed(x, d));
     egui::Grid::new("sensitivities").striped(true).show(ui, |ui| {
         for h in [
             "part",

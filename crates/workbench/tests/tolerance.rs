@@ -98,3 +98,22 @@ fn a_long_monte_carlo_shows_progress_and_cancels() {
     h.run();
     let _ = h.get_by_label_contains("must be a whole number");
 }
+
+/// View, Lengths in inches switches the ruler and the mount sheet to inches (the relay's 100 mm spacing
+/// reads 3.937 in: 25.4 mm each) and leaves the bench in mm.
+#[test]
+fn the_inch_option_shows_inches_and_keeps_millimetres() {
+    let mut h = harness(Workbench::demo("unit-relay"));
+    let before = h.state().bench.clone();
+    h.get_by_label("View").click();
+    h.run();
+    h.get_by_label("Lengths in inches (ruler and mount sheet; files stay in mm)").click();
+    h.run();
+    assert!(h.state().inch && h.state().mount.inch);
+    h.get_by_label("View").click();
+    h.run();
+    h.get_by_label("Mount sheet (for the machine shop)").click();
+    h.run();
+    let _ = h.get_by_label_contains("3.937");
+    assert_eq!(h.state().bench, before, "display only: the bench stays in mm");
+}
