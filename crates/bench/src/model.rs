@@ -103,8 +103,10 @@ impl PartTolerance {
     }
 }
 
-/// The point a part tilts about. A pivot off the part's centre adds a decentre to every tilt (the lever
-/// arm times the angle).
+/// The point a part tilts about. A pivot off the part's centre moves the part as it tilts, by the lever
+/// arm times the angle: a tilt about x swings a part on a carrier below the axis along the rail, and a
+/// first-vertex pivot swings the part's centre across the axis. The tolerance run traces that motion
+/// exactly; its paraxial image position counts only the part's own position error.
 #[derive(Debug, Clone, Copy, PartialEq, Default, Serialize, Deserialize)]
 #[serde(deny_unknown_fields)]
 pub enum Pivot {

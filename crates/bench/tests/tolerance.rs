@@ -256,3 +256,32 @@ fn numbers_that_round_to_zero_have_no_sign() {
     assert_eq!(fixed(0.004, 2), "0.00");
     assert_eq!(fixed(-12.5, 1), "-12.5");
 }
+
+/// A tilt about a pivot P is the same tilt about the part's centre C followed by the shift
+/// R(C − P) − (C − P) (a rigid motion's decomposition; elementary geometry): for a carrier mount L below
+/// the axis and a tilt α about x, (0, L(cos α − 1), L sin α). The trial with the carrier pivot equals the
+/// trial tilted about the centre and moved so, to 1e-12 mm.
+#[test]
+fn a_tilt_about_the_carrier_mount_is_a_tilt_about_the_centre_and_a_swing() {
+    let singlet = r#"        (name: "L", at_mm: 300.0, kind: Singlet(front: Radius(80.0), back: Radius(-80.0), thickness_mm: 6.0, diameter_mm: 30.0, material: Index(1.6))),
+        (name: "Screen", at_mm: 450.0, kind: Screen(diameter_mm: 40.0)),"#;
+    let carrier = "\n    tolerances: [(part: \"L\", pivot: Carrier(below_axis_mm: 40.0))],";
+    let (_, on_carrier) = tolerance_run(&bench(&on_rail(singlet, carrier)));
+    let (_, centred) = tolerance_run(&bench(&on_rail(singlet, "")));
+    let (alpha_deg, l) = (0.3_f64, 40.0);
+    let a = alpha_deg.to_radians();
+    let swung = on_carrier.trial(&[PartErrors { tilt_x_deg: alpha_deg, ..PartErrors::default() }]).unwrap();
+    let same = centred
+        .trial(&[PartErrors {
+            tilt_x_deg: alpha_deg,
+            dy_mm: l * (a.cos() - 1.0),
+            dz_mm: l * a.sin(),
+            ..PartErrors::default()
+        }])
+        .unwrap();
+    assert!((swung.centroid_mm.1 - same.centroid_mm.1).abs() < 1e-12, "{swung:?} vs {same:?}");
+    assert!((swung.rms_mm - same.rms_mm).abs() < 1e-12);
+    // And the swing matters: without it the spot lands elsewhere.
+    let unswung = centred.trial(&[PartErrors { tilt_x_deg: alpha_deg, ..PartErrors::default() }]).unwrap();
+    assert!((unswung.rms_mm - swung.rms_mm).abs() > 1e-6);
+}
