@@ -103,6 +103,29 @@ enum Command {
         #[arg(long, value_name = "YYYY-MM-DD")]
         date: Option<String>,
     },
+    /// The tolerance run: each lens's and mirror's sensitivities (image shift per mm of position, per
+    /// 0.1 mm of decentre and per 0.1° of tilt, and the RMS spot's growth), the budget's RSS and
+    /// worst-case stacks against the depth of focus and the screen, and a seeded Monte Carlo. Limits come
+    /// from the bench's `tolerances`, else common shop practice.
+    Tolerance {
+        /// The bench file (.bench.ron).
+        file: PathBuf,
+        /// Monte Carlo trials (0: none).
+        #[arg(long, value_name = "N", default_value_t = lumenrail_bench::tolerance::DEFAULT_TRIALS)]
+        trials: usize,
+        /// The Monte Carlo's seed: the same seed gives the same result on any machine's thread count.
+        #[arg(long, value_name = "S", default_value_t = lumenrail_bench::tolerance::DEFAULT_SEED)]
+        seed: u64,
+        /// Draw errors from a normal distribution with σ = a/3, truncated at ±a (default: uniform within ±a).
+        #[arg(long)]
+        normal: bool,
+        /// Move the screen to each trial's best focus before measuring its spot.
+        #[arg(long)]
+        refocus: bool,
+        /// Print JSON for a script instead of text for a person.
+        #[arg(long)]
+        json: bool,
+    },
     /// List the built-in demo benches, or print one: `lumenrail demos NAME > my.bench.ron`.
     Demos {
         /// The demo to print.
@@ -193,6 +216,11 @@ fn main() -> ExitCode {
         Some(Command::MountSheet { file, csv, svg, dxf, json, inch, datum, margin, date }) => {
             let to = MountOutputs { csv: csv.as_deref(), svg: svg.as_deref(), dxf: dxf.as_deref() };
             mount_sheet(&file, to, json, inch, &datum, margin, date.as_deref())
+        }
+        Some(Command::Tolerance { file, trials, seed, normal, refocus, json }) => {
+            use lumenrail_bench::tolerance::{Distribution, MonteCarloOptions};
+            let distribution = if normal { Distribution::NORMAL } else { Distribution::Uniform };
+            tolerance_cmd(&file, MonteCarloOptions { trials, seed, distribution, refocus }, json)
         }
         Some(Command::Materials) => {
             for e in library::entries() {
@@ -294,6 +322,39 @@ fn export_rail(path: &Path, to: RailOutputs<'_>, (width, height): (u32, u32)) ->
     if let Some(why) = &evaluation.report.trace_failure {
         eprintln!("{}: cannot trace as asked: {why}", path.display());
         return ExitCode::from(1);
+    }
+    ExitCode::SUCCESS
+}
+
+/// `lumenrail tolerance FILE [--trials N] [--seed S] [--normal] [--refocus] [--json]`: the run as text or
+/// JSON. Exits 1 when the bench cannot be traced or has nothing to tolerance, 2 on bad input.
+fn tolerance_cmd(path: &Path, options: lumenrail_bench::tolerance::MonteCarloOptions, json: bool) -> ExitCode {
+    use lumenrail_bench::tolerance::{ToleranceRun, monte_carlo};
+    let Some(loaded) = load(path) else {
+        return ExitCode::from(2);
+    };
+    let evaluation = lumenrail_bench::evaluation::Evaluation::of(&loaded.bench);
+    let (mut run, perturber) = match ToleranceRun::of(&evaluation) {
+        Ok(r) => r,
+        Err(e) => {
+            eprintln!("{}: no tolerance run: {e}", path.display());
+            return ExitCode::from(1);
+        }
+    };
+    if options.trials > 0 {
+        let progress = lumenrail_bench::arrange::Progress::default();
+        match monte_carlo(&perturber, &run.limits, &options, &progress) {
+            Ok(mc) => run.monte_carlo = Some(mc),
+            Err(e) => {
+                eprintln!("{}: the Monte Carlo stopped: {e}", path.display());
+                return ExitCode::from(1);
+            }
+        }
+    }
+    if json {
+        println!("{}", run.to_json());
+    } else {
+        print!("{}", run.to_text());
     }
     ExitCode::SUCCESS
 }

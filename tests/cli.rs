@@ -585,3 +585,43 @@ fn mount_sheet_prints_the_table_and_writes_the_shop_files() {
     let o = run(&["mount-sheet", b, "--margin=-1"]);
     assert!(stderr(&o).contains("the margin must be"), "{}", stderr(&o));
 }
+
+/// `lumenrail tolerance`: text by default, JSON with the documented keys, the same figures for the same
+/// seed, and a bad limit refused at its place.
+#[test]
+fn tolerance_prints_the_run_and_its_json() {
+    let bench = write("tolerance.bench.ron", demo("camera-meniscus"));
+    let b = bench.to_str().unwrap();
+    let o = run(&["tolerance", b, "--trials", "200"]);
+    assert!(o.status.success(), "{}", stderr(&o));
+    let text = String::from_utf8(o.stdout).unwrap();
+    for words in ["Tolerance run: ", "Sensitivities", "depth of focus", "common practice", "Monte Carlo: 200 trials"] {
+        assert!(text.contains(words), "{words}: {text}");
+    }
+    assert!(!text.contains("NaN") && !text.contains("inf"), "{text}");
+    let json = |seed: &str| -> serde_json::Value {
+        let o = run(&["tolerance", b, "--trials", "200", "--seed", seed, "--json", "--refocus", "--normal"]);
+        assert!(o.status.success(), "{}", stderr(&o));
+        serde_json::from_slice(&o.stdout).unwrap()
+    };
+    let v = json("5");
+    for key in ["title", "plane_mm", "nominal_rms_um", "limits", "sensitivities", "budget", "monte_carlo"] {
+        assert!(!v[key].is_null(), "{key}: {v}");
+    }
+    for key in ["rss_axial_mm", "worst_axial_mm", "rss_lateral_um", "worst_lateral_um", "contributions"] {
+        assert!(!v["budget"][key].is_null(), "budget.{key}");
+    }
+    for key in ["rms_um", "lateral_um", "axial_mm", "histogram", "refocus_mm"] {
+        assert!(!v["monte_carlo"][key].is_null(), "monte_carlo.{key}");
+    }
+    assert_eq!(v["monte_carlo"]["rms_um"]["p90"], json("5")["monte_carlo"]["rms_um"]["p90"]);
+    let bad = demo("camera-meniscus").replace("\n)", "\n    tolerances: [(part: \"Nobody\")],\n)");
+    let bad = write("bad-tolerance.bench.ron", bad);
+    let o = run(&["tolerance", bad.to_str().unwrap()]);
+    assert_eq!(o.status.code(), Some(2));
+    assert!(
+        stderr(&o).contains("bad-tolerance.bench.ron:") && stderr(&o).contains("no part named \"Nobody\""),
+        "{}",
+        stderr(&o)
+    );
+}

@@ -151,6 +151,7 @@ pub fn first_order_alone(kind: &PartKind, wavelength_nm: f64) -> Option<lumenrai
         parts: vec![Part { name: "part".into(), at_mm: 0.0, kind: kind.clone(), carrier_mm: None, from_drawer: None }],
         aims: Vec::new(),
         laser: None,
+        tolerances: Vec::new(),
     };
     let compiled = compile::compile(&bench).ok()?;
     let seq = compiled.system.at(wavelength_nm).ok()?;

@@ -382,12 +382,27 @@ impl<'a> Locator<'a> {
     }
 
     fn finding(&self, bench: &Bench, f: &Finding) -> Place {
+        if let Some(field) = f.field.and_then(|k| k.strip_prefix("tolerances.")) {
+            return self.tolerance_finding(bench, f, field);
+        }
         let span = f.part.and_then(|i| {
             let name = &bench.parts[i].name;
             let nth = bench.parts[..i].iter().filter(|p| &p.name == name).count();
             self.part_span(name, nth)
         });
         self.place_in(span, f.field)
+    }
+
+    /// A tolerance entry's finding: the entry is the one whose own check gives this message; the place is
+    /// `field`'s key in it (the entry's start when the field was left out).
+    fn tolerance_finding(&self, bench: &Bench, f: &Finding, field: &str) -> Place {
+        let n = (0..bench.tolerances.len())
+            .find(|&n| crate::validate::tolerance_problems(bench, n).iter().any(|(_, m)| *m == f.message));
+        let span = n.and_then(|n| self.nth_item_span("tolerances", "part", n));
+        self.place_in(
+            span.or_else(|| self.key_offset(0, self.text.len(), "tolerances").map(|o| (o, o + 1))),
+            Some(field),
+        )
     }
 
     /// The place of `field`'s key within `span` (the whole text when `None`), else the span's start, else
@@ -425,6 +440,13 @@ pub fn to_text(bench: &Bench) -> String {
         t.push_str("    aims: [\n");
         for aim in &bench.aims {
             let _ = writeln!(t, "        {},", one_line(aim));
+        }
+        t.push_str("    ],\n");
+    }
+    if !bench.tolerances.is_empty() {
+        t.push_str("    tolerances: [\n");
+        for tol in &bench.tolerances {
+            let _ = writeln!(t, "        {},", one_line(tol));
         }
         t.push_str("    ],\n");
     }

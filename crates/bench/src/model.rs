@@ -42,6 +42,96 @@ pub struct Bench {
     /// none; format-1 files without it read as before).
     #[serde(default, skip_serializing_if = "Vec::is_empty")]
     pub aims: Vec<Aim>,
+    /// How precisely parts must sit: ± limits for the tolerance run, one entry per part that differs from
+    /// common shop practice ([`PartTolerance`]); left out of the file when empty, and format-1 files
+    /// without it read as before.
+    #[serde(default, skip_serializing_if = "Vec::is_empty")]
+    pub tolerances: Vec<PartTolerance>,
+}
+
+/// Common shop practice for a part's position along the rail: ± 0.1 mm (a rule of thumb for ordinary
+/// machining, not a standard).
+pub const COMMON_POSITION_MM: f64 = 0.1;
+/// Common shop practice for a part's decentre: ± 0.05 mm on each of x and y (a rule of thumb).
+pub const COMMON_DECENTRE_MM: f64 = 0.05;
+/// Common shop practice for a part's tilt: ± 0.1° about each of x and y (a rule of thumb).
+pub const COMMON_TILT_DEG: f64 = 0.1;
+
+fn common_position_mm() -> f64 {
+    COMMON_POSITION_MM
+}
+fn common_decentre_mm() -> f64 {
+    COMMON_DECENTRE_MM
+}
+fn common_tilt_deg() -> f64 {
+    COMMON_TILT_DEG
+}
+
+/// The ± limits within which one lens or mirror must sit, for the tolerance run. A field left out takes
+/// common shop practice ([`COMMON_POSITION_MM`], [`COMMON_DECENTRE_MM`], [`COMMON_TILT_DEG`], pivot at
+/// the part's centre). Written `(part: "L1", position_mm: 0.2, decentre_mm: 0.05, tilt_deg: 0.1,
+/// pivot: Centre)`.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct PartTolerance {
+    /// The part's name.
+    pub part: String,
+    /// ± limit of the position along the rail, mm.
+    #[serde(default = "common_position_mm")]
+    pub position_mm: f64,
+    /// ± limit of the decentre across the axis, mm, on each of x and y.
+    #[serde(default = "common_decentre_mm")]
+    pub decentre_mm: f64,
+    /// ± limit of the tilt, degrees, about each of x and y.
+    #[serde(default = "common_tilt_deg")]
+    pub tilt_deg: f64,
+    /// The point the part tilts about.
+    #[serde(default)]
+    pub pivot: Pivot,
+}
+
+impl PartTolerance {
+    /// Common shop practice for the named part.
+    pub fn common(part: &str) -> PartTolerance {
+        PartTolerance {
+            part: part.to_string(),
+            position_mm: COMMON_POSITION_MM,
+            decentre_mm: COMMON_DECENTRE_MM,
+            tilt_deg: COMMON_TILT_DEG,
+            pivot: Pivot::Centre,
+        }
+    }
+}
+
+/// The point a part tilts about. A pivot off the part's centre moves the part as it tilts, by the lever
+/// arm times the angle: a tilt about x swings a part on a carrier below the axis along the rail, and a
+/// first-vertex pivot swings the part's centre across the axis. The tolerance run traces that motion
+/// exactly; its paraxial image position counts only the part's own position error.
+#[derive(Debug, Clone, Copy, PartialEq, Default, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub enum Pivot {
+    /// The part's centre on the axis: midway between its first and last vertex.
+    #[default]
+    Centre,
+    /// The part's first vertex (the side the light meets first).
+    FirstVertex,
+    /// The carrier's mounting point: below the axis by the post's height, at the carrier's centre along
+    /// the rail (the part's centre).
+    Carrier {
+        /// How far below the optical axis the carrier is fixed, mm.
+        below_axis_mm: f64,
+    },
+}
+
+impl Pivot {
+    /// Plain words for the pivot.
+    pub fn words(&self) -> String {
+        match self {
+            Pivot::Centre => "part centre".into(),
+            Pivot::FirstVertex => "first vertex".into(),
+            Pivot::Carrier { below_axis_mm } => format!("carrier mount {below_axis_mm} mm below the axis"),
+        }
+    }
 }
 
 /// A goal the user sets for the bench, with its tolerance: what the report checks and the arranger

@@ -418,6 +418,12 @@ pub fn validate(bench: &Bench) -> Vec<Finding> {
         }
     }
     aims(&mut c, bench);
+    for n in 0..bench.tolerances.len() {
+        for (field, message) in tolerance_problems(bench, n) {
+            let part = bench.parts.iter().position(|p| p.name == bench.tolerances[n].part);
+            c.error(part, field, message);
+        }
+    }
     c.findings.sort_by_key(|f| f.severity != Severity::Error);
     c.findings
 }
@@ -462,6 +468,76 @@ fn edge_check(c: &mut Checker<'_>, i: usize, surfaces: &[SurfaceSpec], thickness
             );
         }
     }
+}
+
+/// The largest ± limits a tolerance entry may set: 10 mm of position or decentre, 10° of tilt (beyond
+/// them the part is misplaced, not out of tolerance, and the run's linear stacks mean nothing).
+pub const MAX_TOLERANCE_MM: f64 = 10.0;
+/// The largest tilt limit, degrees.
+pub const MAX_TOLERANCE_DEG: f64 = 10.0;
+
+/// The fields of a tolerance entry a finding can name (each spelled `tolerances.FIELD`, so that the file's
+/// locator looks for them in the `tolerances` list rather than in a part).
+pub(crate) const TOLERANCE_FIELDS: [&str; 6] = [
+    "tolerances.part",
+    "tolerances.position_mm",
+    "tolerances.decentre_mm",
+    "tolerances.tilt_deg",
+    "tolerances.pivot",
+    "tolerances.below_axis_mm",
+];
+
+/// What is wrong with tolerance entry `n` (from 0): (field, message) pairs. The part must be a lens or
+/// mirror of the bench, named once in the list; the limits finite, at least 0 and at most
+/// [`MAX_TOLERANCE_MM`] / [`MAX_TOLERANCE_DEG`]; a carrier pivot 0 to 1000 mm below the axis.
+pub(crate) fn tolerance_problems(bench: &Bench, n: usize) -> Vec<(&'static str, String)> {
+    use crate::model::Pivot;
+    let t = &bench.tolerances[n];
+    let who = format!("tolerance {} (\"{}\")", n + 1, t.part);
+    let mut out = Vec::new();
+    match bench.parts.iter().find(|p| p.name == t.part) {
+        None => out.push((TOLERANCE_FIELDS[0], format!("{who}: there is no part named \"{}\" on the bench", t.part))),
+        Some(p)
+            if !matches!(
+                p.kind,
+                PartKind::ThinLens { .. }
+                    | PartKind::Singlet { .. }
+                    | PartKind::Doublet { .. }
+                    | PartKind::Mirror { .. }
+            ) =>
+        {
+            out.push((
+                TOLERANCE_FIELDS[0],
+                format!(
+                    "{who}: only lenses and mirrors carry tolerances; a screen is the plane the image is measured on, and an iris here limits no ray of the tolerance run (a {} was named)",
+                    p.kind.word()
+                ),
+            ));
+        }
+        Some(_) => {}
+    }
+    if bench.tolerances[..n].iter().any(|e| e.part == t.part) {
+        out.push((TOLERANCE_FIELDS[0], format!("{who}: the part is listed twice; give it one entry")));
+    }
+    let limit = |v: f64, max: f64| v.is_finite() && (0.0..=max).contains(&v);
+    for (field, v, max, unit, what) in [
+        (TOLERANCE_FIELDS[1], t.position_mm, MAX_TOLERANCE_MM, "mm", "position"),
+        (TOLERANCE_FIELDS[2], t.decentre_mm, MAX_TOLERANCE_MM, "mm", "decentre"),
+        (TOLERANCE_FIELDS[3], t.tilt_deg, MAX_TOLERANCE_DEG, "°", "tilt"),
+    ] {
+        if !limit(v, max) {
+            out.push((field, format!("{who}: the {what} limit ±{v} {unit} must be a number from 0 to {max} {unit}")));
+        }
+    }
+    if let Pivot::Carrier { below_axis_mm } = t.pivot
+        && !limit(below_axis_mm, 1000.0)
+    {
+        out.push((
+            TOLERANCE_FIELDS[5],
+            format!("{who}: the carrier's mounting point {below_axis_mm} mm below the axis must be a number from 0 to 1000 mm"),
+        ));
+    }
+    out
 }
 
 /// Each aim's numbers must make sense, and a screen it names must be on the bench.

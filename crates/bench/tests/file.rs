@@ -284,6 +284,7 @@ proptest! {
             parts: parts.into_iter().map(|(name, at_mm, kind, carrier_mm)| Part { name, at_mm, kind, carrier_mm, from_drawer: None }).collect(),
             aims: Vec::new(),
             laser: None,
+            tolerances: Vec::new(),
         };
         let text = to_text(&bench);
         let back: Bench = ron::from_str(&text).unwrap();

@@ -43,6 +43,7 @@ pub mod field;
 pub mod library;
 pub mod material;
 pub mod paraxial;
+pub mod pose;
 pub mod pupil;
 pub mod quadrature;
 pub mod sampling;

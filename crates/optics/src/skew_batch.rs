@@ -4,6 +4,7 @@
 //! The kernel here is also the single-ray skew trace ([`crate::skew::through_step`] runs it with one
 //! lane), so the batch and the single ray agree bit for bit in the portable build.
 
+use crate::pose::Pose;
 use crate::simd::Lane;
 use crate::skew::SkewRay;
 use crate::system::{Sequence, Step};
@@ -201,23 +202,36 @@ impl SkewBatch {
 /// processor has them (intercepts then differ from the single-ray trace by rounding, ~1e-16 relative),
 /// else the portable loop.
 pub fn trace_skew_batch(seq: &Sequence, batch: &mut SkewBatch) {
+    trace_skew_batch_posed(seq, &[], batch);
+}
+
+/// Traces every ray of `batch` through `seq` with surface `i` placed by `poses[i]` (surfaces beyond the
+/// end of `poses` sit where the centred trace puts them): before a posed surface every ray of a block is
+/// carried into its local frame, and back after it; identity poses are skipped, so with no decentre or
+/// tilt this is [`trace_skew_batch`] bit for bit. The lane width is chosen as there.
+pub fn trace_skew_batch_posed(seq: &Sequence, poses: &[Pose], batch: &mut SkewBatch) {
     #[cfg(target_arch = "x86_64")]
     {
         if crate::simd::has_avx2_fma() {
             // SAFETY: the processor has just been checked for AVX2 and FMA.
-            unsafe { trace_skew_batch_avx2(seq, batch) };
+            unsafe { trace_skew_batch_avx2_posed(seq, poses, batch) };
             return;
         }
     }
-    trace_skew_batch_portable(seq, batch);
+    trace_skew_batch_portable_posed(seq, poses, batch);
 }
 
 /// The portable loop (SSE2 pairs on x86-64, one lane elsewhere), bit for bit the single-ray arithmetic.
 pub fn trace_skew_batch_portable(seq: &Sequence, batch: &mut SkewBatch) {
+    trace_skew_batch_portable_posed(seq, &[], batch);
+}
+
+/// The portable loop with posed surfaces (see [`trace_skew_batch_posed`]).
+pub fn trace_skew_batch_portable_posed(seq: &Sequence, poses: &[Pose], batch: &mut SkewBatch) {
     #[cfg(target_arch = "x86_64")]
-    trace_blocks::<crate::simd::F64x2>(seq, batch);
+    trace_blocks::<crate::simd::F64x2>(seq, poses, batch);
     #[cfg(not(target_arch = "x86_64"))]
-    trace_blocks::<f64>(seq, batch);
+    trace_blocks::<f64>(seq, poses, batch);
 }
 
 /// The loop in four AVX lanes with fused multiply-add.
@@ -227,14 +241,24 @@ pub fn trace_skew_batch_portable(seq: &Sequence, batch: &mut SkewBatch) {
 #[cfg(target_arch = "x86_64")]
 #[target_feature(enable = "avx2,fma")]
 pub unsafe fn trace_skew_batch_avx2(seq: &Sequence, batch: &mut SkewBatch) {
-    trace_blocks::<crate::simd::F64x4>(seq, batch);
+    trace_blocks::<crate::simd::F64x4>(seq, &[], batch);
+}
+
+/// The loop in four AVX lanes with fused multiply-add, with posed surfaces.
+///
+/// # Safety
+/// The processor must support AVX2 and FMA.
+#[cfg(target_arch = "x86_64")]
+#[target_feature(enable = "avx2,fma")]
+unsafe fn trace_skew_batch_avx2_posed(seq: &Sequence, poses: &[Pose], batch: &mut SkewBatch) {
+    trace_blocks::<crate::simd::F64x4>(seq, poses, batch);
 }
 
 /// Rays per block: eight arrays of 384 rays (24 KiB) stay in the first-level cache.
 const BLOCK: usize = 384;
 
 #[inline(always)]
-fn trace_blocks<V: Lane>(seq: &Sequence, batch: &mut SkewBatch) {
+fn trace_blocks<V: Lane>(seq: &Sequence, poses: &[Pose], batch: &mut SkewBatch) {
     let n = batch.len();
     let mut start = 0;
     while start < n {
@@ -252,9 +276,29 @@ fn trace_blocks<V: Lane>(seq: &Sequence, batch: &mut SkewBatch) {
         ];
         for (index, step) in seq.steps.iter().enumerate() {
             let code = 4.0 * (index as f64 + 1.0);
+            let pose = poses.get(index).filter(|p| !p.is_identity());
+            if let Some(pose) = pose {
+                carry(&mut b, |p| pose.to_local_point(p), |d| pose.to_local_direction(d));
+            }
             with_kernel_form!(step, surface_loop::<V>(step, code, &mut b));
+            if let Some(pose) = pose {
+                carry(&mut b, |p| pose.to_world_point(p), |d| pose.to_world_direction(d));
+            }
         }
         start = end;
+    }
+}
+
+/// Carries every ray of a block into another frame: points by `point`, directions by `direction`.
+fn carry(
+    b: &mut [&mut [f64]; 8],
+    point: impl Fn(glam::DVec3) -> glam::DVec3,
+    direction: impl Fn(glam::DVec3) -> glam::DVec3,
+) {
+    for i in 0..b[0].len() {
+        let p = point(glam::DVec3::new(b[0][i], b[1][i], b[2][i]));
+        let d = direction(glam::DVec3::new(b[3][i], b[4][i], b[5][i]));
+        [b[0][i], b[1][i], b[2][i], b[3][i], b[4][i], b[5][i]] = [p.x, p.y, p.z, d.x, d.y, d.z];
     }
 }
 

@@ -43,6 +43,8 @@ pub enum Action {
     BenchSettings,
     /// Open the mount sheet window.
     MountSheet,
+    /// Open the tolerance window (sensitivities, budget, Monte Carlo).
+    ToleranceRun,
     /// Nudge the selected part one step towards the datum.
     NudgeBack,
     /// Nudge the selected part one step away from the datum.
@@ -175,6 +177,7 @@ pub const ACTIONS: &[ActionInfo] = &[
     entry(Action::NudgeForwardTen, Menu::None, "Nudge ten steps right", &[Shortcut::shift(Key::ArrowRight)]),
     entry(Action::FitBench, Menu::View, "Fit bench", &[]),
     entry(Action::MountSheet, Menu::View, "Mount sheet (for the machine shop)", &[]),
+    entry(Action::ToleranceRun, Menu::View, "Tolerance run (sensitivities, budget, Monte Carlo)", &[]),
     entry(Action::ToggleViews, Menu::View, "Analysis views (spot, fan, sweep, colour, field)", &[]),
     entry(Action::GettingStarted, Menu::Help, "Getting started", &[Shortcut::plain(Key::F1)]),
     entry(Action::Safety, Menu::Help, "Safety", &[]),
@@ -296,6 +299,7 @@ impl Workbench {
             Action::NudgeForwardTen => self.nudge(10.0),
             Action::FitBench => self.view.fit(),
             Action::MountSheet => self.mount.open = true,
+            Action::ToleranceRun => self.tolerance.open = true,
             Action::ToggleViews => self.views.shown = !self.views.shown,
             Action::GettingStarted => self.show_start = true,
             Action::Safety => self.show_safety = true,

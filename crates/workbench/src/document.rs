@@ -117,6 +117,8 @@ impl Workbench {
             arranger: crate::arranger::ArrangerPanel::default(),
             left: crate::LeftPage::default(),
             mount: crate::mount::MountWindow::default(),
+            tolerance: crate::tolerance::ToleranceWindow::default(),
+            inch: false,
             revision: 0,
             recent: Vec::new(),
             views: plots::ViewsPanel::default(),

@@ -68,6 +68,7 @@ impl Workbench {
                     parts: Vec::new(),
                     aims: Vec::new(),
                     laser: None,
+                    tolerances: Vec::new(),
                 };
                 self.replace_document(Workbench::new(bench, None));
             }

@@ -23,6 +23,7 @@ mod readout;
 pub mod recovery;
 mod settings;
 mod sheet;
+pub mod tolerance;
 
 pub use dialogs::{GETTING_STARTED, SAFETY};
 use document::History;
@@ -75,6 +76,10 @@ pub struct Workbench {
     pub left: LeftPage,
     /// The mount sheet window.
     pub mount: mount::MountWindow,
+    /// Lengths on the rail's ruler and the sheets shown in inches (display only; files stay in mm).
+    pub inch: bool,
+    /// The tolerance window.
+    pub tolerance: tolerance::ToleranceWindow,
     /// The size the drawing export lays the rail out for, `WIDTHxHEIGHT` (pixels for PNG, points for SVG).
     pub(crate) drawing_size: String,
     /// Counts changes to the bench, so that a frame can tell whether it changed while being drawn.
@@ -181,6 +186,7 @@ impl Workbench {
         self.windows_ui(ui.ctx());
         self.settings_ui(ui.ctx());
         self.mount_ui(ui.ctx());
+        self.tolerance_ui(ui.ctx());
         self.drawer_question_ui(ui.ctx());
         self.unsaved_ui(ui.ctx());
         self.disk_ui(ui.ctx());

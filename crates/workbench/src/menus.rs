@@ -58,6 +58,11 @@ impl Workbench {
             ui.menu_button("View", |ui| {
                 self.action_button(ui, Action::FitBench);
                 self.action_button(ui, Action::MountSheet);
+                self.action_button(ui, Action::ToleranceRun);
+                if ui.checkbox(&mut self.inch, "Lengths in inches (ruler and mount sheet; files stay in mm)").changed()
+                {
+                    self.mount.inch = self.inch;
+                }
                 let mut shown = self.views.shown;
                 if ui.checkbox(&mut shown, Action::ToggleViews.info().label).changed() {
                     self.run(Action::ToggleViews);

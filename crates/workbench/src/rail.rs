@@ -150,7 +150,7 @@ pub(crate) fn rail_ui(wb: &mut Workbench, ui: &mut egui::Ui) {
         wb.place_from_drawer(item.0, z.clamp(0.0, wb.bench.rail_length_mm));
     }
 
-    rail_scale_ui(&scale_painter, &f, wb.bench.rail_length_mm);
+    rail_scale_ui(&scale_painter, &f, wb.bench.rail_length_mm, wb.inch);
     object_ui(&painter, &f, wb);
     // The object is clickable: it opens the bench settings, where it is edited.
     let object_hit = match wb.bench.object {
@@ -243,34 +243,51 @@ pub(crate) fn rail_ui(wb: &mut Workbench, ui: &mut egui::Ui) {
     }
 }
 
-fn rail_scale_ui(painter: &egui::Painter, f: &Frame, rail_mm: f64) {
+/// The rail ruler's ticks (rail position in mm, label) and its caption, in mm or inches (25.4 mm each:
+/// the ticks then fall on whole steps of inches; stored positions stay in mm). Ticks are at least 60
+/// pixels apart at `px_per_mm`.
+pub(crate) fn ruler(rail_mm: f64, px_per_mm: f64, inch: bool) -> (Vec<(f64, String)>, String) {
+    use lumenrail_bench::mount::MM_PER_INCH;
+    let (unit_mm, steps, decimals): (f64, &[f64], usize) = if inch {
+        (MM_PER_INCH, &[0.1, 0.5, 1.0, 2.0, 5.0, 10.0, 20.0, 50.0], 1)
+    } else {
+        (1.0, &[1.0, 5.0, 10.0, 50.0, 100.0, 500.0, 1000.0], 0)
+    };
+    let last = *steps.last().expect("steps");
+    let step = steps.iter().copied().find(|s| s * unit_mm * px_per_mm >= 60.0).unwrap_or(last);
+    let decimals = if step < 1.0 { decimals } else { 0 };
+    let mut ticks = Vec::new();
+    let mut k = 0.0_f64;
+    while k * step * unit_mm <= rail_mm + 1e-9 && ticks.len() < 10_000 {
+        let value = k * step;
+        ticks.push((value * unit_mm, format!("{value:.decimals$}")));
+        k += 1.0;
+    }
+    let caption = if inch {
+        format!("rail {:.2} in, inches from the datum", rail_mm / MM_PER_INCH)
+    } else {
+        format!("rail {rail_mm:.0} mm, mm from the datum")
+    };
+    (ticks, caption)
+}
+
+fn rail_scale_ui(painter: &egui::Painter, f: &Frame, rail_mm: f64, inch: bool) {
     let y = f.rect.bottom() - 28.0;
     let grey = Color32::from_gray(150);
     painter.line_segment([pos2(f.at(0.0, 0.0).x, y), pos2(f.at(rail_mm, 0.0).x, y)], Stroke::new(3.0, grey));
     painter.line_segment([f.at(0.0, 0.0), f.at(rail_mm, 0.0)], Stroke::new(1.0, Color32::from_gray(70)));
-    let step = [1.0, 5.0, 10.0, 50.0, 100.0, 500.0, 1000.0]
-        .into_iter()
-        .find(|s| s * f.px_per_mm as f64 >= 60.0)
-        .unwrap_or(1000.0);
-    let mut z = 0.0;
-    while z <= rail_mm + 1e-9 {
+    let (ticks, caption) = ruler(rail_mm, f.px_per_mm as f64, inch);
+    for (z, label) in ticks {
         let x = f.at(z, 0.0).x;
         if x >= f.rect.left() - 1.0 && x <= f.rect.right() + 1.0 {
             painter.line_segment([pos2(x, y - 5.0), pos2(x, y + 5.0)], Stroke::new(1.0, grey));
-            painter.text(
-                pos2(x, y + 7.0),
-                egui::Align2::CENTER_TOP,
-                format!("{z:.0}"),
-                egui::FontId::proportional(11.0),
-                grey,
-            );
+            painter.text(pos2(x, y + 7.0), egui::Align2::CENTER_TOP, label, egui::FontId::proportional(11.0), grey);
         }
-        z += step;
     }
     painter.text(
         pos2(f.rect.right() - 6.0, y - 8.0),
         egui::Align2::RIGHT_BOTTOM,
-        format!("rail {rail_mm:.0} mm, mm from the datum"),
+        caption,
         egui::FontId::proportional(11.0),
         grey,
     );
@@ -622,6 +639,24 @@ fn clamp_move(wb: &Workbench, i: usize, start: f64, target: f64, pass: bool) -> 
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    /// In inches the ruler's ticks fall on whole steps of 25.4 mm (the inch's definition since 1959) and
+    /// read in inches; in mm they read as before.
+    #[test]
+    #[allow(clippy::float_cmp)] // A tick is k·step·25.4 mm and its label k·step: compared exactly.
+    fn the_ruler_reads_in_inches_or_mm() {
+        // 1000 mm at 0.5 px/mm: the first inch step at least 60 px apart is 5 in (63.5 px).
+        let (ticks, caption) = ruler(1000.0, 0.5, true);
+        assert_eq!(caption, "rail 39.37 in, inches from the datum");
+        assert_eq!(ticks[1], (5.0 * 25.4, "5".to_string()));
+        assert_eq!(ticks.len(), 8, "0 to 35 in");
+        let (ticks, caption) = ruler(1000.0, 0.5, false);
+        assert_eq!(caption, "rail 1000 mm, mm from the datum");
+        assert_eq!(ticks[1], (500.0, "500".to_string()));
+        // Zoomed in, tenths of an inch.
+        let (ticks, _) = ruler(100.0, 30.0, true);
+        assert_eq!(ticks[1].1, "0.1");
+    }
 
     /// Labels of neighbouring parts never overlap: the second steps up a row, and when every row is taken
     /// the name is shortened with "…" (or left to the tooltip when there is no room).

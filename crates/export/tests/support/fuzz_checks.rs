@@ -1,6 +1,6 @@
 //! What every fuzz target (and the replay of its findings, `crates/export/tests/fuzz_regressions.rs`) checks once it has a valid bench: the one evaluation, the report as text and
-//! JSON, every view and its CSV, the rail drawing, the mount sheet and its files, and the file round
-//! trip. Nothing may panic, and no NaN or infinity may reach a file or a screen's text.
+//! JSON, every view and its CSV, the rail drawing, the mount sheet and its files, the tolerance run, and the
+//! file round trip. Nothing may panic, and no NaN or infinity may reach a file or a screen's text.
 
 use arbitrary::Arbitrary;
 use lumenrail_bench::evaluation::Evaluation;
@@ -51,6 +51,14 @@ pub fn check_bench(bench: &Bench) {
     finite_text("the mount sheet", &sheet.to_text(false));
     if let Ok(csv) = lumenrail_export::mount::mount_csv(&sheet, false) {
         finite_text("the mount sheet's CSV", &csv);
+    }
+    // The tolerance run, with a short Monte Carlo: a typed error or finite figures.
+    if let Ok((mut run, perturber)) = lumenrail_bench::tolerance::ToleranceRun::of(&eval) {
+        let options = lumenrail_bench::tolerance::MonteCarloOptions { trials: 16, ..Default::default() };
+        let progress = lumenrail_bench::arrange::Progress::default();
+        run.monte_carlo = lumenrail_bench::tolerance::monte_carlo(&perturber, &run.limits, &options, &progress).ok();
+        finite_text("the tolerance run", &run.to_text());
+        assert!(serde_json::from_str::<serde_json::Value>(&run.to_json()).is_ok(), "the tolerance JSON does not parse");
     }
     // What is saved reads back as the same bench (parts in rail order).
     let text = lumenrail_bench::file::to_text(bench);
@@ -152,6 +160,7 @@ impl Input {
             parts: self.parts.iter().enumerate().map(|(k, p)| part(k, p)).collect(),
             aims: Vec::new(),
             laser: None,
+            tolerances: Vec::new(),
         };
         let valid = lumenrail_bench::validate::validate(&bench)
             .iter()
