@@ -148,7 +148,14 @@ pub fn first_order_alone(kind: &PartKind, wavelength_nm: f64) -> Option<lumenrai
         primary_wavelength: 0,
         wavelength_weights: Vec::new(),
         object: ObjectSpec::Distant { field_deg: 0.0, beam_diameter_mm: kind.diameter_mm() },
-        parts: vec![Part { name: "part".into(), at_mm: 0.0, kind: kind.clone(), carrier_mm: None, from_drawer: None }],
+        parts: vec![Part {
+            name: "part".into(),
+            at_mm: 0.0,
+            kind: kind.clone(),
+            carrier_mm: None,
+            from_drawer: None,
+            coatings: Vec::new(),
+        }],
         aims: Vec::new(),
         laser: None,
     };

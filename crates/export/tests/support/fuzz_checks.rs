@@ -128,7 +128,7 @@ fn part(k: usize, p: &PartIn) -> Part {
         4 => PartKind::Iris { diameter_mm: p.d },
         _ => PartKind::Screen { diameter_mm: p.d },
     };
-    Part { name: format!("P{k}"), at_mm: p.at, kind, carrier_mm: p.carrier, from_drawer: None }
+    Part { name: format!("P{k}"), at_mm: p.at, kind, carrier_mm: p.carrier, from_drawer: None, coatings: Vec::new() }
 }
 
 impl Input {
