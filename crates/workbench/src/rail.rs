@@ -435,18 +435,21 @@ fn beam_ui(painter: &egui::Painter, f: &Frame, wb: &Workbench) {
 /// the reflection (the readout's stray-focus table has the figures).
 fn stray_marks_ui(ui: &egui::Ui, painter: &egui::Painter, f: &Frame, wb: &Workbench) {
     let colour = Color32::from_rgb(255, 190, 60);
+    let font = egui::FontId::proportional(10.0);
+    // Numbers step down beneath their neighbours' rather than print over them.
+    let mut numbers: Vec<Rect> = Vec::new();
     for (k, mark) in wb.scene.stray.iter().enumerate() {
         let c = f.at(mark.at_mm, 0.0);
         let r = 5.0;
         let diamond = vec![c + vec2(0.0, -r), c + vec2(r, 0.0), c + vec2(0.0, r), c + vec2(-r, 0.0)];
         painter.add(Shape::convex_polygon(diamond, Color32::TRANSPARENT, Stroke::new(1.5, colour)));
-        painter.text(
-            c + vec2(0.0, r + 2.0),
-            egui::Align2::CENTER_TOP,
-            format!("{}", mark.rank),
-            egui::FontId::proportional(10.0),
-            colour,
-        );
+        let galley = painter.layout_no_wrap(format!("{}", mark.rank), font.clone(), colour);
+        let mut at = Rect::from_min_size(c + vec2(-0.5 * galley.size().x, r + 2.0), galley.size());
+        while numbers.iter().any(|n| n.expand(1.0).intersects(at)) {
+            at = at.translate(vec2(0.0, galley.size().y));
+        }
+        numbers.push(at);
+        painter.galley(at.min, galley, colour);
         let hit = Rect::from_center_size(c, vec2(2.0 * r + 4.0, 2.0 * r + 4.0)).intersect(f.rect);
         if hit.is_positive() {
             let hover = ui.interact(hit, ui.scope_id().with(("stray", k)), Sense::hover());
