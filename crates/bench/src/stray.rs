@@ -65,8 +65,8 @@ pub struct StrayFocusFigures {
     pub diameter_mm: Option<f64>,
     /// Peak irradiance 2P/(πw₀²) of the stray beam there, W/cm² (null without a laser power).
     pub peak_irradiance_w_per_cm2: Option<f64>,
-    /// The nearest surface of the bench, or "the laser", and its distance from the focus, mm.
-    pub nearest: Option<(String, f64)>,
+    /// The nearest surface of the bench (or the laser's exit) to the focus.
+    pub nearest: Option<Nearest>,
     /// False when the stray beam converges faster than the paraxial figures hold (a far-field half-angle
     /// w₀/z_R above [`PARAXIAL_HALF_ANGLE_RAD`]): then the true spot is larger, and its peak lower, than
     /// given (aberrations spread it).
@@ -80,6 +80,15 @@ pub const PARAXIAL_HALF_ANGLE_RAD: f64 = 0.1;
 
 /// At most this many stray-focus warnings are given one by one; the rest are counted in one more.
 pub const STRAY_WARNINGS_SHOWN: usize = 4;
+
+/// What lies nearest a stray focus.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct Nearest {
+    /// The part whose surface it is, or "the laser".
+    pub what: String,
+    /// Its distance from the focus along the rail, mm.
+    pub distance_mm: f64,
+}
 
 /// One stray reflection: a back-reflection towards the source, or a double reflection towards the
 /// screen.
@@ -126,7 +135,13 @@ pub struct StrayFigures {
     pub surfaces: Vec<SurfaceReflectance>,
     /// Every reflection, strongest first.
     pub reflections: Vec<StrayReflection>,
+    /// Why some reflections are not followed (null when every one is).
+    pub note: Option<String>,
 }
+
+/// The most reflecting surfaces whose reflections are followed (40 give 40 back-reflections and 780
+/// pairs; a bench of hundreds of lenses would otherwise take minutes per change).
+pub const MAX_STRAY_SURFACES: usize = 40;
 
 /// The word for face `face` of a part with `count` surfaces.
 fn face_word(face: usize, count: usize) -> &'static str {
@@ -196,8 +211,21 @@ impl StrayFigures {
         let source = source(bench, traced, w);
         let screen = last_screen(bench, traced, screens);
         let main_at_screen = screen.map(|(_, z)| main_radius_at(seq, traced.beam.as_ref(), &source, z));
-        let mut reflections: Vec<StrayReflection> = StrayPath::all(seq)
-            .into_iter()
+        let reflecting: Vec<usize> = (0..seq.steps.len()).filter(|&s| reflects_stray(&seq.steps[s])).collect();
+        let followed = &reflecting[..reflecting.len().min(MAX_STRAY_SURFACES)];
+        let note = (reflecting.len() > followed.len()).then(|| {
+            format!(
+                "only the first {} of the {} reflecting surfaces along the light are followed (their pairs grow as the square)",
+                followed.len(),
+                reflecting.len()
+            )
+        });
+        let backs = followed.iter().filter_map(|&k| StrayPath::back(seq, k));
+        let doubles = followed.iter().enumerate().flat_map(|(a, &later)| {
+            followed[..a].iter().filter_map(move |&earlier| StrayPath::double(seq, later, earlier))
+        });
+        let mut reflections: Vec<StrayReflection> = backs
+            .chain(doubles)
             .filter_map(|path| {
                 let share = path.power_share(seq, reflectance);
                 (share > 0.0).then(|| {
@@ -208,7 +236,13 @@ impl StrayFigures {
             .collect();
         reflections
             .sort_by(|a, b| (!b.foci.is_empty()).cmp(&!a.foci.is_empty()).then(b.strength.total_cmp(&a.strength)));
-        Some(StrayFigures { wavelength_nm: seq.wavelength_nm, laser: source.laser.is_some(), surfaces, reflections })
+        Some(StrayFigures {
+            wavelength_nm: seq.wavelength_nm,
+            laser: source.laser.is_some(),
+            surfaces,
+            reflections,
+            note,
+        })
     }
 
     /// The map's lines in the text report.
@@ -224,6 +258,9 @@ impl StrayFigures {
             })
             .collect();
         let _ = writeln!(t, "  reflectances: {}", rs.join("; "));
+        if let Some(n) = &self.note {
+            let _ = writeln!(t, "  ({n})");
+        }
         for r in self.reflections.iter().take(STRAY_TEXT_REFLECTIONS) {
             let _ =
                 writeln!(t, "  {} reflection from {}: {}% of the power", r.kind, r.label(), share_words(r.power_share));
@@ -258,7 +295,7 @@ impl StrayFigures {
         }
         for r in self.reflections.iter().filter(|r| r.power_share >= STRAY_WARN_POWER) {
             for f in &r.foci {
-                if let Some((what, d)) = &f.nearest
+                if let Some(Nearest { what, distance_mm: d }) = &f.nearest
                     && *d <= STRAY_NEAR_MM
                 {
                     let on = if what == "the laser" {
@@ -332,7 +369,8 @@ pub fn share_words(share: f64) -> String {
 pub fn focus_words(f: &StrayFocusFigures) -> String {
     let size = f.diameter_mm.map_or_else(String::new, |d| format!(", {} mm across", fixed(d, 4)));
     let peak = f.peak_irradiance_w_per_cm2.map_or_else(String::new, |p| format!(", peak {p:.3e} W/cm²"));
-    let near = f.nearest.as_ref().map_or_else(String::new, |(w, d)| format!(" ({} mm from {w})", fixed(*d, 2)));
+    let near =
+        f.nearest.as_ref().map_or_else(String::new, |n| format!(" ({} mm from {})", fixed(n.distance_mm, 2), n.what));
     let bound = if f.paraxial {
         ""
     } else {
@@ -409,9 +447,12 @@ fn reflection(ctx: &Context<'_>, path: &StrayPath, share: f64) -> StrayReflectio
         None => (None, geometric_foci(path, source.ray.0, source.ray.1)),
     };
     let power_mw = source.laser.and_then(|(_, p)| p);
-    let radius_at = |z: f64| match &beam {
-        Some(b) => Some(b.radius_at(path.seq.steps.len(), z)),
-        None => final_height_mm(&path.seq, source.ray.0, source.ray.1, z).map(f64::abs).filter(|_| source.sized),
+    let radius_at = |z: f64| {
+        match &beam {
+            Some(b) => Some(b.radius_at(path.seq.steps.len(), z)),
+            None => final_height_mm(&path.seq, source.ray.0, source.ray.1, z).map(f64::abs).filter(|_| source.sized),
+        }
+        .filter(|r| r.is_finite())
     };
     let figures: Vec<StrayFocusFigures> = foci
         .iter()
@@ -458,7 +499,7 @@ fn reflection(ctx: &Context<'_>, path: &StrayPath, share: f64) -> StrayReflectio
                 let ghost = radius_at(z);
                 r.diameter_at_screen_mm = ghost.map(|v| 2.0 * v);
                 r.screen_irradiance_share = match (ghost, ctx.main_at_screen.flatten()) {
-                    (Some(g), Some(m)) if g > 0.0 => Some(share * (m / g).powi(2)),
+                    (Some(g), Some(m)) if g > 0.0 => Some(share * (m / g).powi(2)).filter(|v| v.is_finite()),
                     _ => None,
                 };
             }
@@ -484,12 +525,12 @@ fn place(ctx: &Context<'_>, path: &StrayPath, f: &StrayFocus) -> String {
 }
 
 /// The nearest surface vertex of the bench or the laser's exit to `z`, and its distance, mm.
-fn nearest(ctx: &Context<'_>, z: f64) -> Option<(String, f64)> {
-    let mut best: Option<(String, f64)> = None;
+fn nearest(ctx: &Context<'_>, z: f64) -> Option<Nearest> {
+    let mut best: Option<Nearest> = None;
     let mut consider = |what: String, at: f64| {
         let d = (z - at).abs();
-        if best.as_ref().is_none_or(|b| d < b.1) {
-            best = Some((what, d));
+        if best.as_ref().is_none_or(|b| d < b.distance_mm) {
+            best = Some(Nearest { what, distance_mm: d });
         }
     };
     for s in &ctx.seq.steps {

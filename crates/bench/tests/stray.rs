@@ -167,3 +167,21 @@ fn thin_lenses_reflect_nothing_and_demos_load_unchanged() {
     let demo = lumenrail_bench::demos::find("laser-expander").unwrap();
     assert!(report_of(demo.text).stray.is_none());
 }
+
+/// A bench of 25 singlets (50 reflecting surfaces) follows the first 40: their 40 back-reflections and
+/// 40 · 39 / 2 = 780 pairs, and says so.
+#[test]
+fn a_long_bench_follows_the_first_forty_surfaces_and_says_so() {
+    let parts: Vec<String> = (0..25)
+        .map(|k| {
+            format!(
+                "        (name: \"L{k}\", at_mm: {}, kind: Singlet(front: Radius(80.0), back: Radius(-80.0), thickness_mm: 3.0, diameter_mm: 12.0, material: Index(1.5))),",
+                100.0 + 40.0 * k as f64
+            )
+        })
+        .collect();
+    let map = report_of(&bench_text(BEAM, None, &parts.join("\n"))).stray.unwrap();
+    assert_eq!(map.surfaces.len(), 50);
+    assert_eq!(map.reflections.len(), 40 + 780);
+    assert!(map.note.as_deref().is_some_and(|n| n.contains("first 40 of the 50")), "{:?}", map.note);
+}

@@ -225,13 +225,17 @@ pub fn beam_foci(path: &StrayPath, source: LaserSource) -> Option<(BeamTrace, Ve
     for (p, q) in beam.after.iter().enumerate().skip(path.first_reflection()) {
         let step = &seq.steps[p];
         let z = step.z_mm + step.dir_after * q.reduced_to_waist_mm() * step.n_after;
-        if z.is_finite() && in_space(seq, p, z) {
+        let w0 = q.waist_radius_mm(source.wavelength_nm, source.m_squared);
+        let z_r = step.n_after * q.im_mm;
+        // A degenerate parameter (no finite waist) is no focus to report.
+        let usable = z.is_finite() && w0.is_finite() && w0 > 0.0 && z_r.is_finite() && z_r > 0.0;
+        if usable && in_space(seq, p, z) {
             out.push(StrayFocus {
                 after_step: p,
                 final_space: p + 1 == seq.steps.len(),
                 at_mm: z,
-                waist_radius_mm: Some(q.waist_radius_mm(source.wavelength_nm, source.m_squared)),
-                rayleigh_range_mm: Some(step.n_after * q.im_mm),
+                waist_radius_mm: Some(w0),
+                rayleigh_range_mm: Some(z_r),
             });
         }
     }

@@ -256,6 +256,9 @@ fn stray_table_ui(ui: &mut egui::Ui, map: &lumenrail_bench::stray::StrayFigures)
             ui.end_row();
         }
     });
+    if let Some(note) = &map.note {
+        ui.add(egui::Label::new(format!("({note})")).wrap());
+    }
     if map.reflections.len() > STRAY_TABLE_ROWS {
         ui.label(format!(
             "and {} weaker reflections (lumenrail report lists them all)",

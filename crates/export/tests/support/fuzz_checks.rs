@@ -39,7 +39,7 @@ pub fn check_bench(bench: &Bench) {
     let json = report.to_json();
     assert!(serde_json::from_str::<serde_json::Value>(&json).is_ok(), "the JSON does not parse");
     let views = Views::of(&eval, &ViewRequest::default());
-    for kind in [ViewKind::Spot, ViewKind::Fan, ViewKind::Sweep, ViewKind::Colour, ViewKind::Field] {
+    for kind in ViewKind::ALL {
         if let Some(csv) = lumenrail_export::csv::view_csv(&views, kind) {
             finite_text("a view's CSV", &csv);
         }
