@@ -43,7 +43,8 @@ pub const STRAY_MARKS: usize = 5;
 /// One surface's reflectance.
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct SurfaceReflectance {
-    /// The surface, as "part (front)", "part (back)" or "part (cemented)".
+    /// The surface, as "part (front)", "part (back)" or "part (cemented)" (", on the way back" added for a
+    /// crossing after a mirror).
     pub surface: String,
     /// The part's name.
     pub part: String,
@@ -190,9 +191,11 @@ impl StrayFigures {
                 _ => fresnel_reflectance(seq.steps[s].n_before, seq.steps[s].n_after),
             }
         };
+        // After a mirror the light crosses a lens again on its way back: that crossing is named apart.
         let surface_name = |s: usize| {
             let (part, face, count) = name(s);
-            format!("{part} ({})", face_word(face, count))
+            let back = if seq.steps[s].dir_before < 0.0 { ", on the way back" } else { "" };
+            format!("{part} ({}{back})", face_word(face, count))
         };
         let surfaces = (0..seq.steps.len())
             .filter(|&s| reflects_stray(&seq.steps[s]))
