@@ -1,6 +1,6 @@
 //! The evaluation stage: the cheap path after one part moved (first order, stop and the on-axis RMS spot
 //! on the last screen), the whole evaluation (everything the readout and the rail show), and the whole
-//! evaluation with the spot view the panel opens on, for every demo bench.
+//! evaluation with the spot view the panel opens on, for every demo bench; the stray-focus map alone.
 #![allow(missing_docs)] // criterion_group! generates undocumented items.
 
 use criterion::{Criterion, criterion_group, criterion_main};
@@ -63,5 +63,17 @@ fn evaluation(c: &mut Criterion) {
     }
 }
 
-criterion_group!(benches, placement, evaluation);
+/// The stray-focus map alone, from an evaluated bench: every back-reflection and double reflection of the
+/// spatial-filter demo (6 glass surfaces, 21 paths), each with its laser beam carried along.
+fn stray_map(c: &mut Criterion) {
+    let d = lumenrail_bench::demos::find("laser-pinhole").unwrap();
+    let bench = lumenrail_bench::file::parse(d.name, d.text).unwrap().bench;
+    let e = Evaluation::of(&bench);
+    let traced = e.traced.as_ref().unwrap();
+    c.bench_function("stray_map/laser-pinhole", |b| {
+        b.iter(|| black_box(lumenrail_bench::stray::StrayFigures::of(&bench, traced, &e.screens)))
+    });
+}
+
+criterion_group!(benches, placement, evaluation, stray_map);
 criterion_main!(benches);

@@ -717,7 +717,14 @@ fn with_lenses(bench: &Bench, drawer: &Drawer, way: &[Lens], xs: &[f64]) -> (Ben
         let it = &drawer.items[l.item];
         let kind = if l.turned { it.part.turned() } else { it.part.clone() };
         let name = fresh_name(&trial, &it.label);
-        trial.parts.push(Part { name, at_mm: x, kind, carrier_mm: None, from_drawer: Some(it.label.clone()) });
+        trial.parts.push(Part {
+            name,
+            at_mm: x,
+            kind,
+            carrier_mm: None,
+            from_drawer: Some(it.label.clone()),
+            coatings: Vec::new(),
+        });
     }
     (trial, first_new)
 }
@@ -868,7 +875,14 @@ pub fn apply(bench: &Bench, drawer: &Drawer, candidate: &Candidate) -> Bench {
         let it = &drawer.items[p.item];
         let kind: PartKind = if p.turned { it.part.turned() } else { it.part.clone() };
         let name = fresh_name(&out, &it.label);
-        out.parts.push(Part { name, at_mm: p.at_mm, kind, carrier_mm: None, from_drawer: Some(it.label.clone()) });
+        out.parts.push(Part {
+            name,
+            at_mm: p.at_mm,
+            kind,
+            carrier_mm: None,
+            from_drawer: Some(it.label.clone()),
+            coatings: Vec::new(),
+        });
     }
     out
 }

@@ -29,6 +29,9 @@ pub struct Compiled {
     pub final_direction: f64,
     /// Each time the light crosses a screen, in path order.
     pub screen_crossings: Vec<ScreenCrossing>,
+    /// Each surface's face within its part, counted in rail order from the part's front (0), whichever
+    /// way the light crosses it: what a part's `coatings` list is indexed by.
+    pub face_of: Vec<usize>,
 }
 
 /// One crossing of a screen's plane by the light.
@@ -131,6 +134,7 @@ pub fn compile(bench: &Bench) -> Result<Compiled, UnknownMaterial> {
     let mut truncated = false;
     let mut first_pass = true;
     let mut screen_crossings = Vec::new();
+    let mut face_of = Vec::new();
     loop {
         let ahead: Vec<usize> = if dir > 0.0 {
             order
@@ -150,9 +154,13 @@ pub fn compile(bench: &Bench) -> Result<Compiled, UnknownMaterial> {
             }
             let semi = 0.5 * part.kind.diameter_mm();
             let mut part_faces = faces(&part.kind, part.at_mm)?;
+            let count = part_faces.len();
             if dir < 0.0 {
                 // Crossed the other way: surfaces in reverse, each leading into the medium before it.
                 part_faces = reverse(part_faces);
+                face_of.extend((0..count).rev());
+            } else {
+                face_of.extend(0..count);
             }
             for face in part_faces {
                 let s = match face {
@@ -187,6 +195,7 @@ pub fn compile(bench: &Bench) -> Result<Compiled, UnknownMaterial> {
         truncated,
         final_direction: dir,
         screen_crossings,
+        face_of,
     })
 }
 

@@ -36,6 +36,7 @@ pub const DEMOS: &[Demo] = &[
     demo!("keplerian-telescope"),
     demo!("galilean-expander"),
     demo!("laser-expander"),
+    demo!("laser-pinhole"),
     demo!("plano-convex-curved-first"),
     demo!("plano-convex-flat-first"),
     demo!("colour-singlet"),

@@ -19,6 +19,7 @@ pub mod file;
 pub mod model;
 pub mod mount;
 pub mod report;
+pub mod stray;
 pub mod tolerance;
 pub mod validate;
 pub mod views;

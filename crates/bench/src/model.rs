@@ -275,6 +275,32 @@ pub struct Part {
     /// The label of the drawer item the part was placed from, if any.
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub from_drawer: Option<String>,
+    /// A lens's surface coatings, one per surface in rail order (front first; a doublet has three), for
+    /// the stray-focus map: `coatings: [Percent(0.5), Bare]`. Left out (and empty) when every surface is
+    /// bare glass, which reflects its Fresnel share; format-1 files without it read as before.
+    #[serde(default, skip_serializing_if = "Vec::is_empty")]
+    pub coatings: Vec<Coating>,
+}
+
+/// What a lens surface reflects at normal incidence, for the stray-focus map.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
+pub enum Coating {
+    /// Bare glass: the Fresnel reflectance ((n₁ − n₂)/(n₁ + n₂))² of the indices either side.
+    Bare,
+    /// A coating that reflects this many percent (0 to 100) at the laser's (or the primary) wavelength.
+    Percent(f64),
+}
+
+impl PartKind {
+    /// How many refracting surfaces the part has (what its `coatings` list may hold): 2 for a singlet, 3
+    /// for a doublet, 0 for the rest (a thin lens is ideal and has none).
+    pub fn surface_count(&self) -> usize {
+        match self {
+            PartKind::Singlet { .. } => 2,
+            PartKind::Doublet { .. } => 3,
+            _ => 0,
+        }
+    }
 }
 
 /// A surface shape.

@@ -189,6 +189,8 @@ pub enum WarningKind {
     Caution,
     /// A part's clear aperture passes less than 99 % of the laser beam's power.
     Clipping,
+    /// A stray reflection focuses near a surface, at the laser or on the screen.
+    StrayFocus,
 }
 
 /// Something in a bench that needs a look: what kind, which part and field it concerns, and what it says.
@@ -259,6 +261,9 @@ pub struct Report {
     pub viewing: Option<Viewing>,
     /// The laser beam's figures (null without a laser on the bench).
     pub beam: Option<BeamFigures>,
+    /// The stray-focus map: where the light lens surfaces reflect comes to a focus (null without a lens
+    /// surface).
+    pub stray: Option<crate::stray::StrayFigures>,
     /// Each of the bench's aims: its target, the value reached, met or not.
     pub aims: Vec<crate::aims::AimStatus>,
     /// Everything that needs a look.
@@ -338,6 +343,7 @@ impl Report {
             colour: Vec::new(),
             viewing: None,
             beam: None,
+            stray: None,
             aims: Vec::new(),
             warnings: Vec::new(),
             trace_failure: failure,
@@ -363,6 +369,7 @@ impl Report {
             if let (Some(laser), Some(beam)) = (&bench.laser, &t.beam) {
                 report.fill_beam(bench, laser, &t.compiled, beam, screens);
             }
+            report.fill_stray(bench, t, screens);
         }
         if bench.laser.is_some() {
             report.warnings.push(Warning::new(WarningKind::Caution, None, LASER_CAUTION.into()));
@@ -389,6 +396,15 @@ impl Report {
             ));
         }
         self.beam = Some(figures);
+    }
+
+    /// The stray-focus map and its warnings.
+    fn fill_stray(&mut self, bench: &Bench, traced: &Traced, screens: &[usize]) {
+        let Some(map) = crate::stray::StrayFigures::of(bench, traced, screens) else { return };
+        for (part, message) in map.warnings() {
+            self.warnings.push(Warning::new(WarningKind::StrayFocus, part.as_deref(), message));
+        }
+        self.stray = Some(map);
     }
 
     fn part_name(bench: &Bench, compiled: &Compiled, surface: usize) -> String {
@@ -711,6 +727,9 @@ impl Report {
         }
         if let Some(b) = &self.beam {
             b.write_text(&mut t);
+        }
+        if let Some(s) = &self.stray {
+            s.write_text(&mut t);
         }
         let ab = &self.aberrations;
         let _ = writeln!(t, "\nImage quality");

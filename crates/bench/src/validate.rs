@@ -355,6 +355,7 @@ pub fn validate(bench: &Bench) -> Vec<Finding> {
             continue;
         }
         c.kind(i, &p.kind);
+        coatings(&mut c, i, p);
         if let Some(w) = p.carrier_mm
             && !(w.is_finite() && w >= 0.0)
         {
@@ -426,6 +427,45 @@ pub fn validate(bench: &Bench) -> Vec<Finding> {
     }
     c.findings.sort_by_key(|f| f.severity != Severity::Error);
     c.findings
+}
+
+/// A part's coatings: only lens surfaces take them, one per surface, each reflecting 0 to 100 %.
+fn coatings(c: &mut Checker<'_>, i: usize, p: &Part) {
+    if p.coatings.is_empty() {
+        return;
+    }
+    let who = c.who(i);
+    let count = p.kind.surface_count();
+    if count == 0 {
+        let why = if matches!(p.kind, PartKind::ThinLens { .. }) {
+            "an ideal thin lens has no surfaces to coat"
+        } else {
+            "only the surfaces of a singlet or a doublet take coatings"
+        };
+        c.error(Some(i), "coatings", format!("{who}: {why}"));
+        return;
+    }
+    if p.coatings.len() != count {
+        c.error(
+            Some(i),
+            "coatings",
+            format!(
+                "{who}: {} coatings for its {count} surfaces; give one per surface, front first (Bare or Percent(…))",
+                p.coatings.len()
+            ),
+        );
+    }
+    for (k, coating) in p.coatings.iter().enumerate() {
+        if let crate::model::Coating::Percent(v) = coating
+            && !(v.is_finite() && (0.0..=100.0).contains(v))
+        {
+            c.error(
+                Some(i),
+                "coatings",
+                format!("{who}: coating {} reflects {v} %, but a reflectance is 0 to 100 %", k + 1),
+            );
+        }
+    }
 }
 
 /// Checks each part kind's own numbers, as a bench's validation does: diameter, focal length, radii,

@@ -140,6 +140,7 @@ fn an_exhaustive_scan_finds_nothing_better_than_the_arrangers_best() {
                     kind: kind.clone(),
                     carrier_mm: None,
                     from_drawer: None,
+                    coatings: Vec::new(),
                 });
                 let r = lumenrail_bench::report::Report::of(&b);
                 scanned += 1;
@@ -166,6 +167,7 @@ fn candidates_keep_the_rules_and_rank_the_same_on_any_thread_count() {
         kind: PartKind::Iris { diameter_mm: 20.0 },
         carrier_mm: Some(2.0),
         from_drawer: None,
+        coatings: Vec::new(),
     });
     let d = drawer(vec![thin("f100", 100.0, 1), thin("f50", 50.0, 2), thin("f75", 75.0, 1), thin("f-50", -50.0, 1)]);
     let options = Options { min_parts: 1, max_parts: 2, top: 40, gap_mm: 3.0 };

@@ -118,3 +118,40 @@ fn bad_laser_numbers_are_placed() {
         assert!(d.message.contains(words), "{d}");
     }
 }
+
+/// The beam view projects the evaluation: its curve starts at the laser's waist and ends on the card at
+/// the report's diameter there, follows free propagation w(z) = w₀√(1 + (z/z_R)²) from the laser to the
+/// first lens (Siegman, *Lasers*, 1986), marks the report's real waists and every part, and computes
+/// nothing (one compilation and one analysis per revision: the evaluation's own). A bench without a laser
+/// has no beam view and says why.
+#[test]
+fn the_beam_view_projects_the_evaluation() {
+    use lumenrail_bench::evaluation::{Evaluation, counters};
+    use lumenrail_bench::views::{ViewKind, ViewRequest, Views};
+    let demo = lumenrail_bench::demos::find("laser-pinhole").unwrap();
+    let bench = file::parse("demo", demo.text).unwrap().bench;
+    let e = Evaluation::of(&bench);
+    let before = counters();
+    let views = Views::only(&e, &ViewRequest::default(), &[ViewKind::Beam]);
+    assert_eq!(counters(), before, "the view compiled or analysed again");
+    let v = views.beam.as_ref().unwrap();
+    assert!(views.notes.is_empty(), "{:?}", views.notes);
+    let b = e.report.beam.as_ref().unwrap();
+    let first = v.runs.first().and_then(|r| r.first()).unwrap();
+    assert!((first.0 - 20.0).abs() < 1e-12 && rel(first.1, 0.8) < 1e-12);
+    let zr = PI * 0.4 * 0.4 / 632.8e-6;
+    for &(z, d) in &v.runs[0] {
+        assert!(rel(d, 0.8 * (1.0 + ((z - 20.0) / zr).powi(2)).sqrt()) < 1e-12, "{z}: {d}");
+    }
+    let last = v.runs.last().and_then(|r| r.last()).unwrap();
+    let card = &b.screens[0];
+    assert!((last.0 - card.at_mm).abs() < 1e-12 && rel(last.1, card.diameter_mm) < 1e-12);
+    let real: Vec<f64> = b.waists.iter().filter(|w| w.real).map(|w| w.at_mm).collect();
+    let marked: Vec<f64> = v.waists.iter().map(|w| w.at_mm).collect();
+    // The waist behind the collimator is not reached (the focusing lens meets the beam first).
+    assert_eq!(marked, [real[0], real[1], real[3]], "{real:?}");
+    assert_eq!(v.parts.len(), 4);
+    let plain = file::parse("t", lumenrail_bench::demos::find("one-lens-screen").unwrap().text).unwrap().bench;
+    let none = Views::only(&Evaluation::of(&plain), &ViewRequest::default(), &[ViewKind::Beam]);
+    assert!(none.beam.is_none() && none.notes.iter().any(|n| n.contains("no laser on the bench")));
+}

@@ -281,7 +281,7 @@ proptest! {
             primary_wavelength: 1,
             wavelength_weights: if distant { vec![1.0, 2.5] } else { Vec::new() },
             object: if distant { ObjectSpec::Distant { field_deg: 1.5, beam_diameter_mm: 8.0 } } else { ObjectSpec::Point { at_mm: 0.0, height_mm: -2.5 } },
-            parts: parts.into_iter().map(|(name, at_mm, kind, carrier_mm)| Part { name, at_mm, kind, carrier_mm, from_drawer: None }).collect(),
+            parts: parts.into_iter().map(|(name, at_mm, kind, carrier_mm)| Part { name, at_mm, kind, carrier_mm, from_drawer: None, coatings: Vec::new() }).collect(),
             aims: Vec::new(),
             laser: None,
             tolerances: Vec::new(),

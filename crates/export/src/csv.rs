@@ -63,6 +63,31 @@ pub fn view_csv(views: &Views, kind: ViewKind) -> Option<String> {
                 let _ = writeln!(t, "{},{},{},{d}", p.field, p.tangential_mm, p.sagittal_mm);
             }
         }
+        ViewKind::Beam => {
+            let v = views.beam.as_ref()?;
+            // One table: the envelope's samples (space 0 is the laser's), then the waists, then the parts.
+            t.push_str("row,space_or_name,z_mm,diameter_mm\n");
+            for (k, run) in v.runs.iter().enumerate() {
+                for (z, d) in run {
+                    let _ = writeln!(t, "envelope,{k},{z},{d}");
+                }
+            }
+            for w in &v.waists {
+                let _ = writeln!(t, "waist,{},{},{}", quoted(&format!("after {}", w.after)), w.at_mm, w.diameter_mm);
+            }
+            for p in &v.parts {
+                let _ = writeln!(t, "part,{},{},{}", quoted(&p.part), p.at_mm, p.diameter_mm);
+            }
+        }
     }
     Some(t)
+}
+
+/// A CSV field: quoted (with inner quotes doubled) when it holds a comma, a quote or a line break.
+fn quoted(field: &str) -> String {
+    if field.contains([',', '"', '\n', '\r']) {
+        format!("\"{}\"", field.replace('"', "\"\""))
+    } else {
+        field.to_string()
+    }
 }

@@ -1,4 +1,4 @@
-//! The analysis views drawn with egui_plot: spot, fan, sweep, colour and field. The same drawing serves
+//! The analysis views drawn with egui_plot: spot, fan, sweep, colour, field and beam. The same drawing serves
 //! the workbench's views panel and the PNG export ([`view_png`], drawn without a window by
 //! [`crate::picture`]); the numbers are [`lumenrail_bench::views::Views`], never recomputed here.
 
@@ -20,7 +20,12 @@ pub fn view_png(views: &Views, kind: ViewKind, title: &str) -> image::RgbaImage 
     crate::picture::render(1200.0, 640.0, 1.5, |ui| {
         ui.heading(format!("{title}: {} view", kind.word()));
         // The plots fill the picture; the spot view keeps room for its figures beneath.
-        let below = if kind == ViewKind::Spot { 110.0 } else { 50.0 };
+        let below = match kind {
+            ViewKind::Spot => 110.0,
+            // A line per waist beneath the beam view.
+            ViewKind::Beam => 40.0 + 20.0 * views.beam.as_ref().map_or(0.0, |b| b.waists.len() as f32),
+            _ => 50.0,
+        };
         draw_view(ui, views, kind, false, (ui.available_height() - below).max(300.0));
     })
 }
@@ -100,6 +105,7 @@ pub fn draw_view(ui: &mut egui::Ui, views: &Views, kind: ViewKind, interactive: 
         ViewKind::Sweep => sweep_ui(ui, views, interactive, height),
         ViewKind::Colour => colour_ui(ui, views, interactive, height),
         ViewKind::Field => field_ui(ui, views, interactive, height),
+        ViewKind::Beam => beam_ui(ui, views, interactive, height),
     }
     for n in &views.notes {
         ui.label(n);
@@ -296,4 +302,51 @@ fn field_ui(ui: &mut egui::Ui, views: &Views, interactive: bool, height: f32) {
             p.vline(VLine::new("no distortion", 0.0).color(Color32::GRAY));
         });
     });
+}
+
+/// The beam view: the 1/e² diameter along the rail (one curve, broken at each surface), the waists as
+/// dots and the parts as vertical lines at the rail positions where the beam meets them.
+fn beam_ui(ui: &mut egui::Ui, views: &Views, interactive: bool, height: f32) {
+    let Some(v) = &views.beam else { return };
+    ui.label(format!(
+        "The laser beam's 1/e² diameter along the rail at {} nm (M² {}), mm; dots: waists; vertical lines: parts.",
+        fixed(v.wavelength_nm, 1),
+        fixed(v.m_squared, 2)
+    ));
+    let colour = series_colour(ui, v.wavelength_nm);
+    let text = ui.visuals().text_color();
+    let top = v.runs.iter().flatten().map(|p| p.1).fold(0.0_f64, f64::max);
+    let legend = Legend::default().position(egui_plot::Corner::LeftTop);
+    let part_colour = Color32::from_rgb(90, 130, 200);
+    plot("beam", "rail position, mm", "1/e² diameter, mm", interactive, height).legend(legend).show(ui, |p| {
+        // One legend entry for the whole curve: every run carries the same name.
+        for run in &v.runs {
+            let pts: PlotPoints = run.iter().map(|&(z, d)| [z, d]).collect();
+            p.line(Line::new("1/e² diameter", pts).color(colour).width(1.8));
+        }
+        for part in &v.parts {
+            // Every part line shares one legend entry.
+            p.vline(VLine::new("part", part.at_mm).color(part_colour).style(LineStyle::dashed_loose()));
+            p.text(
+                // No name: the lines carry the legend entry.
+                egui_plot::Text::new(
+                    "",
+                    egui_plot::PlotPoint::new(part.at_mm, 1.04 * top),
+                    egui::RichText::new(&part.part).small(),
+                )
+                .color(text),
+            );
+        }
+        let dots: PlotPoints = v.waists.iter().map(|w| [w.at_mm, w.diameter_mm]).collect();
+        p.points(Points::new("waist", dots).color(text).radius(4.0));
+    });
+    for w in &v.waists {
+        ui.label(format!(
+            "waist after {}: at {} mm, {} mm across, Rayleigh range {} mm",
+            w.after,
+            fixed(w.at_mm, 3),
+            fixed(w.diameter_mm, 4),
+            fixed(w.rayleigh_range_mm, 2)
+        ));
+    }
 }

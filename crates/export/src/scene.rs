@@ -67,6 +67,20 @@ pub struct Scene {
     /// A laser's 1/e² beam radius along the light path, as (rail position, radius) runs in mm, one run
     /// per space between surfaces (empty without a laser).
     pub beam: Vec<Vec<(f64, f64)>>,
+    /// The foci of the strongest stray reflections on the rail (the report's stray-focus map), strongest
+    /// first.
+    pub stray: Vec<StrayMark>,
+}
+
+/// A stray focus marked on the rail.
+#[derive(Debug, Clone, PartialEq)]
+pub struct StrayMark {
+    /// The reflection's rank in the map, from 1 (the readout's table numbers its rows alike).
+    pub rank: usize,
+    /// Rail position, mm.
+    pub at_mm: f64,
+    /// What it is: "stray focus 1: back reflection from L1 (front), 4.00% of the power".
+    pub label: String,
 }
 
 /// Points of the drawn beam envelope in each space between surfaces (enough for a smooth waist).
@@ -102,9 +116,20 @@ impl Scene {
             .max_by(|a, b| (a * dir).total_cmp(&(b * dir)));
         // The laser's envelope: from its waist to the last screen it meets, or the rail's end (its start
         // when the light returns).
-        if let Some(beam) = evaluation.traced.as_ref().and_then(|t| t.beam.as_ref()) {
-            let end = last_screen.unwrap_or(if dir > 0.0 { bench.rail_length_mm } else { 0.0 });
+        if let (Some(beam), Some(end)) = (
+            evaluation.traced.as_ref().and_then(|t| t.beam.as_ref()),
+            lumenrail_bench::views::envelope_end_mm(evaluation),
+        ) {
             scene.beam = beam.envelope(f64::NEG_INFINITY, end, BEAM_SAMPLES_PER_SPACE);
+        }
+        if let Some(map) = &evaluation.report.stray {
+            let on_rail = |z: &f64| (0.0..=bench.rail_length_mm).contains(z);
+            scene.stray = map
+                .marks()
+                .into_iter()
+                .filter(|(_, z, _)| on_rail(z))
+                .map(|(rank, at_mm, what)| StrayMark { rank, at_mm, label: format!("stray focus {rank}: {what}") })
+                .collect();
         }
         for fan in &evaluation.rail_fans {
             let Some(w) =

@@ -34,7 +34,8 @@
 //! The pipeline: a [`system::System`] (surfaces with materials) is evaluated at a wavelength into a
 //! [`system::Sequence`]; [`trace`] and [`batch`] trace real rays through it, [`paraxial`] gives first-order
 //! figures, [`pupil`] finds the stop and pupils and aims real rays, [`spot`] integrates the on-axis spot
-//! over the pupil, [`seidel`] sums third-order aberrations, and [`analysis`] runs all of them at once.
+//! over the pupil, [`seidel`] sums third-order aberrations, [`beam`] carries a laser's Gaussian beam,
+//! [`stray`] follows the light that lens surfaces reflect, and [`analysis`] runs the image figures at once.
 
 pub mod analysis;
 pub mod batch;
@@ -52,5 +53,6 @@ mod simd;
 pub mod skew;
 pub mod skew_batch;
 pub mod spot;
+pub mod stray;
 pub mod system;
 pub mod trace;

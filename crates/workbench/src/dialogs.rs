@@ -146,8 +146,13 @@ fn drawing_size(text: &str) -> Option<(u32, u32)> {
 pub const SAFETY: &str = "Lumenrail plans benches; it does not certify them.\n\n\
 • Lasers: every laser has a hazard class (IEC 60825-1; ANSI Z136). Lenses gather a beam, so a bench can make a \
 low-class beam hazardous. Keep beams below eye level, end them on beam stops, align at low power. Class 3B and 4 \
-work needs a laser safety officer and the eyewear that officer names.\n\
-• Stray reflections: every glass surface reflects some light (about 4% uncoated) and curved ones focus it.\n\
+work needs a laser safety officer and the eyewear that officer names. Lumenrail classifies nothing: the \
+laser's class, the applicable standard and the laser safety officer decide. The peak irradiances it gives \
+(2P/πw² in W/cm²) are figures for that officer, not a hazard class.\n\
+• Stray reflections: every glass surface reflects some light (about 4% uncoated) and curved ones focus it. \
+The stray-focus map (readout, and the numbered diamonds on the rail) shows where a bench's reflections \
+focus and how strong they are; block those paths with beam stops whenever an element is added, tilted or \
+flipped. It is paraxial: tilted or decentred parts send their reflections elsewhere.\n\
 • The sun: never look at the sun through any optic; a lens in sunlight can start a fire.\n\
 • Lamps get hot, burn skin and char nearby material; some emit UV.\n\
 • Local rules and manufacturers' instructions come first. Eyes and eyewear: an eye-care professional.";
@@ -168,5 +173,11 @@ Where things are\n\n\
 zoom about the pointer, drag empty space to pan, View, Fit bench to see it all.\n\
 - The part sheet (left): the selected part's numbers, its own focal lengths, flip and lock.\n\
 - The readout (right): every figure of the bench and its warnings; click a warning about a part to select it.\n\
-- The views (bottom): spot diagram, ray fans, focus sweep, colour and field, with CSV and PNG export.\n\
+- The views (bottom): spot diagram, ray fans, focus sweep, colour, field and, for a bench with a laser, the \
+beam view (the beam's 1/e² diameter along the rail, its waists dotted, the parts as lines), with CSV and PNG \
+export.\n\
+- A laser (a `laser: (…)` line in the bench file; demos laser-expander and laser-pinhole): its 1/e² envelope \
+is shaded on the rail, the readout gives its size at every part, its waists and their irradiance, and the \
+stray-focus map lists where the lens surfaces' reflections focus (the strongest marked on the rail as \
+numbered diamonds). Read the laser cautions in Help, Safety.\n\
 - Help, Keyboard shortcuts lists every key.";

@@ -327,6 +327,7 @@ impl Workbench {
             kind,
             carrier_mm: None,
             from_drawer: None,
+            coatings: Vec::new(),
         }
     }
 

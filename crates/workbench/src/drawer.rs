@@ -132,6 +132,7 @@ impl Workbench {
             kind: it.part.clone(),
             carrier_mm: None,
             from_drawer: Some(it.label.clone()),
+            coatings: Vec::new(),
         })
     }
 

@@ -167,6 +167,7 @@ pub(crate) fn rail_ui(wb: &mut Workbench, ui: &mut egui::Ui) {
     }
     beam_ui(&painter, &f, wb);
     rays_ui(&painter, &f, wb);
+    stray_marks_ui(ui, &painter, &f, wb);
     for img in &wb.scene.images {
         let base = f.at(img.at_mm, 0.0);
         let tip = f.at(img.at_mm, img.height_mm);
@@ -443,6 +444,35 @@ fn beam_ui(painter: &egui::Painter, f: &Frame, wb: &Workbench) {
         painter.add(Shape::mesh(mesh));
         for sign in [1.0, -1.0] {
             painter.add(Shape::line(run.iter().map(|&(z, r)| f.at(z, sign * r)).collect(), edge));
+        }
+    }
+}
+
+/// The strongest stray foci: an amber diamond on the axis at each, with its number; hovering one names
+/// the reflection (the readout's stray-focus table has the figures).
+fn stray_marks_ui(ui: &egui::Ui, painter: &egui::Painter, f: &Frame, wb: &Workbench) {
+    let colour = Color32::from_rgb(255, 190, 60);
+    let font = egui::FontId::proportional(10.0);
+    // Numbers step down beneath their neighbours' rather than print over them.
+    let mut numbers: Vec<Rect> = Vec::new();
+    for (k, mark) in wb.scene.stray.iter().enumerate() {
+        let c = f.at(mark.at_mm, 0.0);
+        let r = 5.0;
+        let diamond = vec![c + vec2(0.0, -r), c + vec2(r, 0.0), c + vec2(0.0, r), c + vec2(-r, 0.0)];
+        painter.add(Shape::convex_polygon(diamond, Color32::TRANSPARENT, Stroke::new(1.5, colour)));
+        let galley = painter.layout_no_wrap(format!("{}", mark.rank), font.clone(), colour);
+        let mut at = Rect::from_min_size(c + vec2(-0.5 * galley.size().x, r + 2.0), galley.size());
+        while numbers.iter().any(|n| n.expand(1.0).intersects(at)) {
+            at = at.translate(vec2(0.0, galley.size().y));
+        }
+        numbers.push(at);
+        painter.galley(at.min, galley, colour);
+        let hit = Rect::from_center_size(c, vec2(2.0 * r + 4.0, 2.0 * r + 4.0)).intersect(f.rect);
+        if hit.is_positive() {
+            let hover = ui.interact(hit, ui.scope_id().with(("stray", k)), Sense::hover());
+            let label = mark.label.clone();
+            hover.widget_info(|| egui::WidgetInfo::labeled(egui::Role::Label, true, &label));
+            hover.on_hover_text(&mark.label);
         }
     }
 }

@@ -193,6 +193,10 @@ impl Workbench {
                 ui.label("Vignetting of the off-axis point: being computed");
             });
         }
+        if let Some(map) = &r.stray {
+            ui.separator();
+            stray_table_ui(ui, map);
+        }
         if !r.warnings.is_empty() {
             ui.separator();
             ui.strong("Warnings");
@@ -242,5 +246,59 @@ impl Workbench {
         if select.is_some() {
             self.selected = select;
         }
+    }
+}
+
+/// Rows of the stray-focus table (the text and JSON reports have them all).
+const STRAY_TABLE_ROWS: usize = 8;
+
+/// The stray-focus map as a table, strongest first, numbered as the rail's marks are.
+fn stray_table_ui(ui: &mut egui::Ui, map: &lumenrail_bench::stray::StrayFigures) {
+    use lumenrail_bench::stray::share_words;
+    let what = if map.laser { "the laser's stray beams" } else { "paraxial foci" };
+    ui.strong(format!("Stray-focus map at {} nm ({what})", fixed(map.wavelength_nm, 1)));
+    if map.laser {
+        ui.add(
+            egui::Label::new(
+                "Reflections of a laser beam can injure eyes where they focus or leave the bench: block them with \
+                 beam stops (see the laser caution below).",
+            )
+            .wrap(),
+        );
+    }
+    // Three columns that wrap, so that the table keeps to the readout's width.
+    let column = 0.4 * ui.available_width();
+    egui::Grid::new("stray table").striped(true).num_columns(3).max_col_width(column).show(ui, |ui| {
+        for head in ["#", "reflection, power", "brightest focus: place, size, peak"] {
+            ui.strong(head);
+        }
+        ui.end_row();
+        for (k, r) in map.reflections.iter().take(STRAY_TABLE_ROWS).enumerate() {
+            ui.label(format!("{}", k + 1));
+            ui.add(egui::Label::new(format!("{} from {}, {}%", r.kind, r.label(), share_words(r.power_share))).wrap());
+            let brightest = r.foci.iter().max_by(|a, b| {
+                a.peak_irradiance_w_per_cm2.unwrap_or(0.0).total_cmp(&b.peak_irradiance_w_per_cm2.unwrap_or(0.0))
+            });
+            let focus = brightest.map_or_else(
+                || "no real focus".to_string(),
+                |f| {
+                    let size = f.diameter_mm.map_or_else(|| "a point".to_string(), |d| format!("{} mm", fixed(d, 4)));
+                    let peak = f.peak_irradiance_w_per_cm2.map_or_else(String::new, |p| format!(", {p:.3e} W/cm²"));
+                    let bound = if f.paraxial { "" } else { " (an upper bound)" };
+                    format!("{} mm {}, {size}{peak}{bound}", fixed(f.at_mm, 2), f.place)
+                },
+            );
+            ui.add(egui::Label::new(focus).wrap());
+            ui.end_row();
+        }
+    });
+    if let Some(note) = &map.note {
+        ui.add(egui::Label::new(format!("({note})")).wrap());
+    }
+    if map.reflections.len() > STRAY_TABLE_ROWS {
+        ui.label(format!(
+            "and {} weaker reflections (lumenrail report lists them all)",
+            map.reflections.len() - STRAY_TABLE_ROWS
+        ));
     }
 }

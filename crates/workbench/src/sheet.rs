@@ -4,7 +4,7 @@
 //! applied (never clamped).
 
 use crate::{Edit, Workbench};
-use lumenrail_bench::model::{MaterialSpec, Part, PartKind, SurfaceSpec};
+use lumenrail_bench::model::{Coating, MaterialSpec, Part, PartKind, SurfaceSpec};
 use lumenrail_bench::report::fixed;
 use lumenrail_bench::validate::{Severity, validate};
 use lumenrail_optics::library;
@@ -66,6 +66,19 @@ fn fields(kind: &PartKind) -> Vec<(&'static str, &'static str)> {
         MaterialSpec::Abbe { .. } => vec![(nd, "nd"), (vd, "Vd")],
         _ => vec![],
     };
+    // What each glass surface reflects, for the stray-focus map (blank: bare glass, its Fresnel share).
+    f.extend(match kind {
+        PartKind::Singlet { .. } => vec![
+            (COATING_KEYS[0], "front reflectance (%, blank: bare)"),
+            (COATING_KEYS[1], "back reflectance (%, blank: bare)"),
+        ],
+        PartKind::Doublet { .. } => vec![
+            (COATING_KEYS[0], "front reflectance (%, blank: bare)"),
+            (COATING_KEYS[1], "cemented reflectance (%, blank: bare)"),
+            (COATING_KEYS[2], "back reflectance (%, blank: bare)"),
+        ],
+        _ => vec![],
+    });
     match kind {
         PartKind::Singlet { material, .. } => f.extend(glass_fields(material, "n1", "nd1", "vd1")),
         PartKind::Doublet { material1, material2, .. } => {
@@ -77,6 +90,9 @@ fn fields(kind: &PartKind) -> Vec<(&'static str, &'static str)> {
     f.push(("carrier_mm", "carrier width (mm, blank: none)"));
     f
 }
+
+/// The sheet's keys of a lens's coatings, front first.
+const COATING_KEYS: [&str; 3] = ["coating1", "coating2", "coating3"];
 
 /// The glass of slot 1 or 2 of a lens.
 fn glass(kind: &PartKind, slot: u8) -> Option<&MaterialSpec> {
@@ -122,6 +138,13 @@ fn field_text(p: &Part, key: &str) -> String {
         (k, "n2") => glass_text(glass(k, 2), 'n'),
         (k, "nd2") => glass_text(glass(k, 2), 'd'),
         (k, "vd2") => glass_text(glass(k, 2), 'v'),
+        (_, key) if COATING_KEYS.contains(&key) => {
+            let face = COATING_KEYS.iter().position(|k| *k == key).unwrap_or(0);
+            match p.coatings.get(face) {
+                Some(Coating::Percent(v)) => number(*v),
+                _ => String::new(),
+            }
+        }
         _ => String::new(),
     }
 }
@@ -190,12 +213,26 @@ fn part_from(old: &Part, texts: &BTreeMap<&'static str, String>) -> Result<Part,
         PartKind::Iris { .. } => PartKind::Iris { diameter_mm: d },
         PartKind::Screen { .. } => PartKind::Screen { diameter_mm: d },
     };
+    let faces = p.kind.surface_count();
+    if faces > 0 {
+        let mut coatings = Vec::with_capacity(faces);
+        for &key in &COATING_KEYS[..faces] {
+            let text = get(key);
+            coatings.push(if text.trim().is_empty() {
+                Coating::Bare
+            } else {
+                Coating::Percent(num(key, "reflectance")?)
+            });
+        }
+        // All bare is what a part without coatings means: the file stays as it was.
+        p.coatings = if coatings.iter().all(|c| *c == Coating::Bare) { Vec::new() } else { coatings };
+    }
     Ok(p)
 }
 
-/// The part turned round (see [`PartKind::turned`]).
+/// The part turned round (see [`PartKind::turned`]); its coatings turn with it (the back one first).
 pub(crate) fn flipped(p: &Part) -> Part {
-    Part { kind: p.kind.turned(), ..p.clone() }
+    Part { kind: p.kind.turned(), coatings: p.coatings.iter().rev().copied().collect(), ..p.clone() }
 }
 
 /// Validates the bench with `candidate` as part `index`; returns the first error the change brings, as
@@ -212,7 +249,14 @@ fn refusal(wb: &Workbench, index: usize, candidate: &Part) -> Option<(&'static s
     new.sort_by_key(|f| f.part != Some(index));
     // An error reported on another part (the later of two with one name, or of two overlapping lenses) is
     // shown beside the same field of this part.
-    new.into_iter().next().map(|f| (f.field.unwrap_or("at_mm"), f.message))
+    // The file's one `coatings` list is the sheet's reflectance fields: shown beside the first.
+    new.into_iter().next().map(|f| {
+        let field = match f.field {
+            Some("coatings") => COATING_KEYS[0],
+            other => other.unwrap_or("at_mm"),
+        };
+        (field, f.message)
+    })
 }
 
 /// Draws the part sheet for the selected part.

@@ -363,7 +363,7 @@ fn random_edits_never_break_the_workbench() {
             wb.apply(lumenrail_workbench::Edit::Remove(i), None);
         }
         // Every analysis view is drawn in turn while the bench is being mangled.
-        wb.views.tab = lumenrail_bench::views::ViewKind::ALL[step % 5];
+        wb.views.tab = lumenrail_bench::views::ViewKind::ALL[step % lumenrail_bench::views::ViewKind::ALL.len()];
         h.run();
         let text = final_image_text_or_empty(&h);
         assert!(!text.contains("NaN") && !text.contains("inf"), "step {step}: {text}");

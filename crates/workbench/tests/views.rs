@@ -293,3 +293,50 @@ fn the_readout_shows_the_laser_beam_and_its_caution() {
     let last = beam.waists.last().unwrap();
     assert!((last.diameter_mm - 4.0).abs() < 1e-3, "{last:?}");
 }
+
+/// Picking the beam tab on the laser expander shows the beam view: its caption and the real waist after
+/// the short lens where S. A. Self's law puts it (Appl. Opt. 22, 658 (1983)): the laser's waist (w₀ =
+/// 0.4 mm, z_R = πw₀²/λ) lies s = 80 mm before the f = 20 mm lens, so 1/s' = 1/f − 1/(s + z_R²/(s − f))
+/// and w₀' = w₀/√((1 − s/f)² + (z_R/f)²). Its CSV, exported by path as a person does it, ends on the far
+/// card at the report's beam diameter there (one source for both).
+#[test]
+fn picking_the_beam_view_shows_the_laser_beam_and_exports_it() {
+    let mut h = harness("laser-expander");
+    h.get_by_label("beam").click();
+    h.run();
+    assert_eq!(h.state().views.tab, ViewKind::Beam);
+    assert!(h.query_by_label_contains("The laser beam's 1/e² diameter along the rail").is_some());
+    let (w0, s_mm, f_mm) = (0.4_f64, 80.0_f64, 20.0_f64);
+    let z_r = std::f64::consts::PI * w0 * w0 / 632.8e-6;
+    let s_out = 1.0 / (1.0 / f_mm - 1.0 / (s_mm + z_r * z_r / (s_mm - f_mm)));
+    let w_out = w0 / ((1.0 - s_mm / f_mm).powi(2) + (z_r / f_mm).powi(2)).sqrt();
+    let waist = h.get_by_label_contains("waist after Short lens S20: at").value().unwrap_or_default();
+    let want = format!("at {} mm, {} mm across", fixed(100.0 + s_out, 3), fixed(2.0 * w_out, 4));
+    assert!(waist.contains(&want), "{waist} vs {want}");
+    assert!(h.query_by_label_contains("no image plane").is_none(), "the afocal note does not concern the beam");
+
+    let dir = std::env::temp_dir().join(format!("lumenrail-beam-view-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).unwrap();
+    let csv = dir.join("beam.csv");
+    h.get_by_label("File").click();
+    h.run();
+    h.get_by_label("Export view CSV by path…").click();
+    h.run();
+    let field = "Path of the CSV table:";
+    h.get_by_label(field).focus();
+    h.run();
+    h.key_press_modifiers(egui::Modifiers::COMMAND, Key::A);
+    h.run();
+    h.get_by_label(field).type_text(csv.to_str().unwrap());
+    h.run();
+    h.get_by_label("Export").click();
+    h.run();
+    let text = std::fs::read_to_string(&csv).unwrap_or_else(|e| panic!("{e}: {}", h.state().status));
+    assert!(text.starts_with("row,space_or_name,z_mm,diameter_mm"));
+    let last = text.lines().rfind(|l| l.starts_with("envelope,")).unwrap();
+    let cols: Vec<f64> = last.split(',').skip(2).map(|v| v.parse().unwrap()).collect();
+    let card = h.state().evaluation.report.beam.clone().unwrap().screens[0].clone();
+    assert!((cols[0] - card.at_mm).abs() < 1e-9, "{last}");
+    assert!((cols[1] - card.diameter_mm).abs() < 1e-12 * card.diameter_mm, "{last} vs {card:?}");
+    let _ = std::fs::remove_dir_all(&dir);
+}

@@ -1,4 +1,4 @@
-//! The data of the analysis views (spot, fan, sweep, colour and field), projected from a bench's one
+//! The data of the analysis views (spot, fan, sweep, colour, field and beam), projected from a bench's one
 //! [`Evaluation`]. The workbench plots exactly these numbers and `lumenrail-export` writes them (CSV,
 //! PNG), so a figure has one source.
 //!
@@ -7,12 +7,14 @@
 //! intercepts in the image plane are measured from the axis. A view reads the evaluation's sequences,
 //! stops and figures; it never compiles the bench or finds a pupil again.
 
+mod beam;
 mod colour;
 mod fan;
 mod field;
 mod spot;
 mod sweep;
 
+pub use beam::{BeamView, BeamViewPart, BeamViewWaist, envelope_end_mm};
 pub use colour::ColourView;
 pub use fan::{FanSeries, FanView};
 pub use field::{FieldPointFigures, FieldView};
@@ -76,11 +78,14 @@ pub enum ViewKind {
     Colour,
     /// Field curvature and distortion across the field.
     Field,
+    /// The laser beam's 1/e² diameter along the rail, with its waists.
+    Beam,
 }
 
 impl ViewKind {
     /// Every view, in menu order.
-    pub const ALL: [ViewKind; 5] = [ViewKind::Spot, ViewKind::Fan, ViewKind::Sweep, ViewKind::Colour, ViewKind::Field];
+    pub const ALL: [ViewKind; 6] =
+        [ViewKind::Spot, ViewKind::Fan, ViewKind::Sweep, ViewKind::Colour, ViewKind::Field, ViewKind::Beam];
 
     /// The view's name on the command line and in menus.
     pub fn word(self) -> &'static str {
@@ -90,6 +95,7 @@ impl ViewKind {
             ViewKind::Sweep => "sweep",
             ViewKind::Colour => "colour",
             ViewKind::Field => "field",
+            ViewKind::Beam => "beam",
         }
     }
 
@@ -127,6 +133,8 @@ pub struct Views {
     pub colour: Option<ColourView>,
     /// The field view.
     pub field: Option<FieldView>,
+    /// The beam view.
+    pub beam: Option<BeamView>,
     /// Why some views are empty.
     pub notes: Vec<String>,
 }
@@ -147,7 +155,8 @@ impl Views {
 
     /// The views in `kinds` of the evaluated bench (the others are left empty): what an open panel shows.
     pub fn only(evaluation: &Evaluation, request: &ViewRequest, kinds: &[ViewKind]) -> Views {
-        let mut views = Views { spot: None, fan: None, sweep: None, colour: None, field: None, notes: Vec::new() };
+        let mut views =
+            Views { spot: None, fan: None, sweep: None, colour: None, field: None, beam: None, notes: Vec::new() };
         let report = &evaluation.report;
         if let Some(why) = &report.trace_failure {
             views.notes.push(format!("nothing to show: {why}"));
@@ -157,6 +166,21 @@ impl Views {
             return views;
         };
         let wants = |k: ViewKind| kinds.contains(&k);
+        if wants(ViewKind::Beam) {
+            views.beam = beam::beam_view(evaluation);
+            if views.beam.is_none() {
+                views.notes.push(if evaluation.bench.laser.is_some() {
+                    "the laser's beam cannot be traced (the readout says why)".into()
+                } else {
+                    "no laser on the bench: the beam view shows a laser's beam (add `laser: (…)` to the bench file)"
+                        .into()
+                });
+            }
+            // The beam needs no image plane: the other views' notes would not concern it.
+            if kinds.iter().all(|&k| k == ViewKind::Beam) {
+                return views;
+            }
+        }
         if wants(ViewKind::Colour) {
             views.colour = colour::colour_view(evaluation, compiled, analysis);
         }

@@ -39,7 +39,7 @@ pub fn check_bench(bench: &Bench) {
     let json = report.to_json();
     assert!(serde_json::from_str::<serde_json::Value>(&json).is_ok(), "the JSON does not parse");
     let views = Views::of(&eval, &ViewRequest::default());
-    for kind in [ViewKind::Spot, ViewKind::Fan, ViewKind::Sweep, ViewKind::Colour, ViewKind::Field] {
+    for kind in ViewKind::ALL {
         if let Some(csv) = lumenrail_export::csv::view_csv(&views, kind) {
             finite_text("a view's CSV", &csv);
         }
@@ -136,7 +136,7 @@ fn part(k: usize, p: &PartIn) -> Part {
         4 => PartKind::Iris { diameter_mm: p.d },
         _ => PartKind::Screen { diameter_mm: p.d },
     };
-    Part { name: format!("P{k}"), at_mm: p.at, kind, carrier_mm: p.carrier, from_drawer: None }
+    Part { name: format!("P{k}"), at_mm: p.at, kind, carrier_mm: p.carrier, from_drawer: None, coatings: Vec::new() }
 }
 
 impl Input {
