@@ -18,6 +18,7 @@ pub mod evaluation;
 pub mod file;
 pub mod model;
 pub mod mount;
+mod reasons;
 pub mod report;
 pub mod stray;
 pub mod tolerance;

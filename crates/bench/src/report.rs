@@ -639,7 +639,9 @@ impl Report {
 
     /// The report as JSON text (pretty, keys as DESIGN.md lists them).
     pub fn to_json(&self) -> String {
-        serde_json::to_string_pretty(self).expect("a report always serialises")
+        let mut value = serde_json::to_value(self).expect("a report always serialises");
+        crate::reasons::annotate(&mut value, self);
+        serde_json::to_string_pretty(&value).expect("a JSON value always serialises")
     }
 
     /// The report as a text table for a person.
@@ -658,6 +660,12 @@ impl Report {
         let _ = writeln!(t, "  (BFL and FFL from the last and first lens or mirror vertex the light meets)");
         let _ = writeln!(t, "  front focus {}   back focus {}", mm(f.front_focus_at_mm), mm(f.back_focus_at_mm));
         let _ = writeln!(t, "  principal planes {} / {}", mm(f.front_principal_at_mm), mm(f.back_principal_at_mm));
+        if self.afocal.is_some() {
+            let _ = writeln!(
+                t,
+                "  (afocal: parallel light leaves parallel, so there is no focal length, focal point or principal plane)"
+            );
+        }
         if let Some(n) = f.f_number {
             let _ = writeln!(t, "  f-number {n:.2}");
         }
@@ -693,6 +701,12 @@ impl Report {
                     if img.real { "real" } else { "virtual" },
                     if img.erect { "erect" } else { "inverted" },
                     m
+                );
+            }
+            if self.images.iter().any(|i| i.magnification.is_none()) {
+                let _ = writeln!(
+                    t,
+                    "  (— : no magnification where the object or the image is at infinity; sizes there are angles)"
                 );
             }
         }
