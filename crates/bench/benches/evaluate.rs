@@ -75,5 +75,55 @@ fn stray_map(c: &mut Criterion) {
     });
 }
 
-criterion_group!(benches, placement, evaluation, stray_map);
+/// Files from anywhere, up to 10 MB: each loads (and is evaluated) or is refused, in well under a second.
+/// A 10 MB file is refused at its size before it is read; a file just under the 4 MB limit, of 36 000 parts, is
+/// read, parsed and refused at its part count; a 500-part bench (the most a bench may hold) loads and is evaluated.
+fn large_files(c: &mut Criterion) {
+    let dir = std::env::temp_dir().join(format!("lumenrail-large-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).unwrap();
+    let bench_text = |parts: usize, kind: &dyn Fn(usize) -> String| {
+        let mut t = String::from(
+            "(format: 1, title: \"large\", rail_length_mm: 10200.0, wavelengths_nm: [486.1327, 587.5618, 656.2725], \
+             primary_wavelength: 1, object: Point(at_mm: 0.0, height_mm: 1.0), parts: [\n",
+        );
+        for i in 0..parts {
+            t.push_str(&format!(
+                "    (name: \"Part {i}\", at_mm: {:.2}, kind: {}, carrier_mm: 10.0),\n",
+                100.0 + 20.0 * i as f64,
+                kind(i)
+            ));
+        }
+        t.push_str("])\n");
+        t
+    };
+    let lens_or_screen = |i: usize| {
+        if i % 2 == 0 {
+            "ThinLens(focal_mm: 100.0, diameter_mm: 25.0)".to_string()
+        } else {
+            "Screen(diameter_mm: 30.0)".to_string()
+        }
+    };
+    let huge = dir.join("huge.bench.ron");
+    std::fs::write(&huge, " ".repeat(10 * 1024 * 1024)).unwrap();
+    let many = dir.join("many.bench.ron");
+    let text = bench_text(36_000, &lens_or_screen);
+    assert!(text.len() as u64 <= lumenrail_bench::file::MAX_FILE_BYTES && text.len() > 3_500_000, "{}", text.len());
+    std::fs::write(&many, text).unwrap();
+    let full = dir.join("full.bench.ron");
+    std::fs::write(&full, bench_text(500, &lens_or_screen)).unwrap();
+    let mut g = c.benchmark_group("large_files");
+    g.bench_function("10 MB, refused at its size", |b| {
+        b.iter(|| black_box(lumenrail_bench::file::load(&huge).is_err()))
+    });
+    g.bench_function("under 4 MB, 36000 parts, refused at the count", |b| {
+        b.iter(|| black_box(lumenrail_bench::file::load(&many).is_err()))
+    });
+    g.bench_function("500 parts, loaded and evaluated", |b| {
+        b.iter(|| black_box(Evaluation::of(&lumenrail_bench::file::load(&full).unwrap().bench)))
+    });
+    g.finish();
+    let _ = std::fs::remove_dir_all(&dir);
+}
+
+criterion_group!(benches, placement, evaluation, stray_map, large_files);
 criterion_main!(benches);
