@@ -39,6 +39,7 @@
 pub mod analysis;
 pub mod batch;
 pub mod beam;
+pub mod diffraction;
 pub mod field;
 pub mod library;
 pub mod material;
@@ -53,3 +54,4 @@ pub mod skew_batch;
 pub mod spot;
 pub mod system;
 pub mod trace;
+pub mod wavefront;
