@@ -19,5 +19,6 @@ pub mod file;
 pub mod model;
 pub mod mount;
 pub mod report;
+pub mod sharpness;
 pub mod validate;
 pub mod views;

@@ -254,6 +254,11 @@ pub struct Report {
     pub viewing: Option<Viewing>,
     /// The laser beam's figures (null without a laser on the bench).
     pub beam: Option<BeamFigures>,
+    /// Wavefront error, Strehl ratio and Zernike terms of each object point at the primary wavelength
+    /// (empty without a real final image).
+    pub wavefront: Vec<crate::sharpness::WavefrontFigures>,
+    /// Polychromatic MTF of each object point: where it falls to 50 % and 10 %, contrast at 10–100 /mm.
+    pub mtf: Vec<crate::sharpness::MtfFigures>,
     /// Each of the bench's aims: its target, the value reached, met or not.
     pub aims: Vec<crate::aims::AimStatus>,
     /// Everything that needs a look.
@@ -332,6 +337,8 @@ impl Report {
             colour: Vec::new(),
             viewing: None,
             beam: None,
+            wavefront: Vec::new(),
+            mtf: Vec::new(),
             aims: Vec::new(),
             warnings: Vec::new(),
             trace_failure: failure,
@@ -356,6 +363,10 @@ impl Report {
             report.fill(bench, &t.compiled, &t.analysis, screens);
             if let (Some(laser), Some(beam)) = (&bench.laser, &t.beam) {
                 report.fill_beam(bench, laser, &t.compiled, beam, screens);
+            }
+            if let Some(s) = &t.sharpness {
+                report.wavefront = s.wavefront_figures();
+                report.mtf = s.mtf_figures();
             }
         }
         if bench.laser.is_some() {
@@ -754,6 +765,7 @@ impl Report {
             let pc = f.distortion_percent.map_or_else(|| "—".to_string(), |d| format!("{}%", fixed(d, 4)));
             let _ = writeln!(t, "  distortion {pc}   lateral colour {}", mm(f.lateral_colour_mm));
         }
+        crate::sharpness::write_text(&mut t, &self.wavefront, &self.mtf);
         if !self.aims.is_empty() {
             let met = self.aims.iter().filter(|a| a.met).count();
             let _ = writeln!(t, "\nAims ({met} of {} met)", self.aims.len());
