@@ -12,7 +12,7 @@ use crate::model::{Bench, ObjectSpec};
 use crate::report::fixed;
 use crate::views::Point;
 use lumenrail_optics::analysis::Analysis;
-use lumenrail_optics::diffraction::{DEFAULT_PADDING, Mtf, Psf, strehl};
+use lumenrail_optics::diffraction::{DEFAULT_PADDING, Mtf, Psf, strehl, undersampled};
 use lumenrail_optics::paraxial::Object;
 use lumenrail_optics::wavefront::{MARECHAL_RMS_WAVES, Wavefront, WavefrontRequest};
 use serde::Serialize;
@@ -45,8 +45,9 @@ pub struct PointSharpness {
     pub waves: Vec<WaveAt>,
     /// Index into `waves` of the primary wavelength (`None`: its wavefront could not be computed).
     pub primary: Option<usize>,
-    /// The polychromatic PSF (each wavelength's resampled onto the first one's grid).
-    pub psf: Option<Psf>,
+    /// Whether some wavelength's pupil is sampled too coarsely for its wavefront (more than half a wave
+    /// between neighbouring samples).
+    pub undersampled: bool,
     /// The polychromatic MTF with its diffraction limit.
     pub mtf: Option<Mtf>,
 }
@@ -55,6 +56,19 @@ impl PointSharpness {
     /// The primary wavelength's wavefront and Strehl ratio.
     pub fn primary(&self) -> Option<&WaveAt> {
         self.primary.map(|i| &self.waves[i])
+    }
+
+    /// The polychromatic PSF, each wavelength's (FFT padded [`DEFAULT_PADDING`] times) resampled onto the
+    /// first one's grid and weighted by its share; computed when a view asks, not with every revision.
+    pub fn psf(&self) -> Option<Psf> {
+        let psfs: Vec<(f64, Psf)> = self
+            .waves
+            .iter()
+            .filter(|w| w.share > 0.0)
+            .map(|w| (w.share, Psf::of(&w.wavefront, DEFAULT_PADDING)))
+            .collect();
+        let parts: Vec<(f64, &Psf)> = psfs.iter().map(|(s, p)| (*s, p)).collect();
+        Psf::polychromatic(&parts)
     }
 }
 
@@ -120,23 +134,17 @@ impl Sharpness {
             if waves.is_empty() {
                 continue;
             }
-            let psfs: Vec<(f64, Psf)> = waves
-                .iter()
-                .map(|w| (w.share, Psf::of(&w.wavefront, DEFAULT_PADDING)))
-                .filter(|(s, _)| *s > 0.0)
-                .collect();
-            let parts: Vec<(f64, &Psf)> = psfs.iter().map(|(s, p)| (*s, p)).collect();
-            let psf = Psf::polychromatic(&parts);
+            let undersampled = waves.iter().any(|w| undersampled(&w.wavefront));
             let fronts: Vec<(f64, &Wavefront)> = waves.iter().map(|w| (w.share, &w.wavefront)).collect();
             let mtf = Mtf::of(&fronts);
-            if psf.as_ref().is_some_and(|p| p.pupil_undersampled) {
+            if undersampled {
                 notes.push(format!(
                     "the {} point's wavefront changes by more than half a wave between pupil samples: its PSF and MTF are not to be trusted ({} samples across)",
                     point.word(),
                     samples_across
                 ));
             }
-            out.push(PointSharpness { point, waves, primary, psf, mtf });
+            out.push(PointSharpness { point, waves, primary, undersampled, mtf });
         }
         Sharpness { image_at_mm, plane, samples_across, points: out, notes }
     }

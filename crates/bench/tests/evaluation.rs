@@ -150,6 +150,11 @@ fn sharpness_comes_with_the_one_evaluation() {
             assert!(*v <= l + 0.02, "{v} above its limit {l}");
         }
     }
+    // The polychromatic PSF, made when a view asks, holds the light that gets through (Parseval; to the 2 %
+    // of bilinear resampling between the wavelengths' grids).
+    let p = &sharp.points[0];
+    let light: f64 = p.waves.iter().map(|w| w.share * w.wavefront.transmitted).sum();
+    assert!((p.psf().unwrap().total() - light).abs() < 0.02 * light);
     let json = serde_json::to_value(&eval.report).unwrap();
     assert!(json["wavefront"][0]["zernike_noll_waves"].as_array().unwrap().len() == 22);
     assert!(json["mtf"][0]["cutoff_per_mm"].as_f64().unwrap() > 0.0);

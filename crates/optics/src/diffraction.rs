@@ -227,8 +227,9 @@ impl Psf {
     }
 }
 
-/// Whether the map's wavefront changes by more than half a wave between neighbouring passing cells.
-fn undersampled(wf: &Wavefront) -> bool {
+/// Whether the map's wavefront changes by more than half a wave between neighbouring passing cells (the
+/// pupil is then sampled too coarsely for its PSF and MTF to be trusted).
+pub fn undersampled(wf: &Wavefront) -> bool {
     let n = wf.across;
     let at = |i: usize, j: usize| wf.map[j * n + i].filter(|_| wf.coverage[j * n + i] > 0.0);
     for j in 0..n {
