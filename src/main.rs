@@ -116,7 +116,7 @@ enum Command {
         /// The bench file (.bench.ron).
         file: PathBuf,
         /// The view: spot, fan, sweep, colour, field, or rail (the bench drawn to scale).
-        #[arg(long, value_parser = ["spot", "fan", "sweep", "colour", "field", "rail"])]
+        #[arg(long, value_parser = ["spot", "fan", "sweep", "colour", "field", "wavefront", "sharpness", "rail"])]
         view: String,
         /// Where to write the rail drawing (with `--view rail`).
         #[arg(long, value_name = "OUT.svg")]

@@ -76,11 +76,23 @@ pub enum ViewKind {
     Colour,
     /// Field curvature and distortion across the field.
     Field,
+    /// The wavefront view: OPD fans and wavefront figures of each point (issue 16).
+    Wavefront,
+    /// The sharpness view: polychromatic MTF against the diffraction limit (issue 16).
+    Sharpness,
 }
 
 impl ViewKind {
     /// Every view, in menu order.
-    pub const ALL: [ViewKind; 5] = [ViewKind::Spot, ViewKind::Fan, ViewKind::Sweep, ViewKind::Colour, ViewKind::Field];
+    pub const ALL: [ViewKind; 7] = [
+        ViewKind::Spot,
+        ViewKind::Fan,
+        ViewKind::Sweep,
+        ViewKind::Colour,
+        ViewKind::Field,
+        ViewKind::Wavefront,
+        ViewKind::Sharpness,
+    ];
 
     /// The view's name on the command line and in menus.
     pub fn word(self) -> &'static str {
@@ -90,6 +102,8 @@ impl ViewKind {
             ViewKind::Sweep => "sweep",
             ViewKind::Colour => "colour",
             ViewKind::Field => "field",
+            ViewKind::Wavefront => "wavefront",
+            ViewKind::Sharpness => "sharpness",
         }
     }
 
@@ -127,6 +141,9 @@ pub struct Views {
     pub colour: Option<ColourView>,
     /// The field view.
     pub field: Option<FieldView>,
+    /// The wavefront and sharpness views' data: the evaluation's own sharpness figures (always at the
+    /// paraxial image, whatever the plane asked for).
+    pub sharpness: Option<crate::sharpness::Sharpness>,
     /// Why some views are empty.
     pub notes: Vec<String>,
 }
@@ -147,7 +164,8 @@ impl Views {
 
     /// The views in `kinds` of the evaluated bench (the others are left empty): what an open panel shows.
     pub fn only(evaluation: &Evaluation, request: &ViewRequest, kinds: &[ViewKind]) -> Views {
-        let mut views = Views { spot: None, fan: None, sweep: None, colour: None, field: None, notes: Vec::new() };
+        let mut views =
+            Views { spot: None, fan: None, sweep: None, colour: None, field: None, sharpness: None, notes: Vec::new() };
         let report = &evaluation.report;
         if let Some(why) = &report.trace_failure {
             views.notes.push(format!("nothing to show: {why}"));
@@ -157,6 +175,13 @@ impl Views {
             return views;
         };
         let wants = |k: ViewKind| kinds.contains(&k);
+        if wants(ViewKind::Wavefront) || wants(ViewKind::Sharpness) {
+            views.sharpness = evaluation.traced.as_ref().and_then(|t| t.sharpness.clone());
+            match &views.sharpness {
+                None => views.notes.push("no wavefront: the bench has no real final image to refer it to".into()),
+                Some(s) => views.notes.extend(s.notes.iter().cloned()),
+            }
+        }
         if wants(ViewKind::Colour) {
             views.colour = colour::colour_view(evaluation, compiled, analysis);
         }
