@@ -316,4 +316,7 @@ fn the_wavefront_and_sharpness_views_show_the_reports_figures() {
     let line = h.get_by_label_contains("on-axis: 50% at").value().unwrap_or_default();
     let t50 = m.tangential_50_per_mm.map(|v| fixed(v, 1)).unwrap();
     assert!(line.contains(&format!("50% at {t50}/mm T")), "{line}");
+    // The readout says whether the image is diffraction-limited.
+    let said = h.get_by_label_contains("Wavefront, on-axis point: RMS").value().unwrap_or_default();
+    assert!(said.contains("not diffraction-limited") && !w.diffraction_limited, "{said}");
 }
