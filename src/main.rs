@@ -138,9 +138,9 @@ enum Command {
     Export {
         /// The bench file (.bench.ron).
         file: PathBuf,
-        /// The view: spot, fan, sweep, colour, field, beam (a laser's 1/e² diameter along the rail), or rail
-        /// (the bench drawn to scale).
-        #[arg(long, value_parser = ["spot", "fan", "sweep", "colour", "field", "beam", "rail"])]
+        /// The view: spot, fan, sweep, colour, field, beam (a laser's 1/e² diameter along the rail), wavefront,
+        /// sharpness (the MTF against its diffraction limit), or rail (the bench drawn to scale).
+        #[arg(long, value_parser = ["spot", "fan", "sweep", "colour", "field", "beam", "wavefront", "sharpness", "rail"])]
         view: String,
         /// Where to write the rail drawing (with `--view rail`).
         #[arg(long, value_name = "OUT.svg")]

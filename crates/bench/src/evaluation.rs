@@ -15,6 +15,7 @@
 use crate::compile::{self, Compiled};
 use crate::model::{Bench, Laser, PartKind};
 use crate::report::Report;
+use crate::sharpness::Sharpness;
 use crate::validate::{Finding, Severity, validate};
 use lumenrail_optics::analysis::{Analysis, PartialPlane, Request, Vignetting, analyse};
 use lumenrail_optics::beam::{BeamTrace, LaserSource};
@@ -79,6 +80,8 @@ pub struct Traced {
     pub analysis: Analysis,
     /// The laser's Gaussian beam through the same sequence at its wavelength (`None` without a laser).
     pub beam: Option<BeamTrace>,
+    /// Wavefronts, PSF and MTF at the paraxial final image (`None` without a real final image).
+    pub sharpness: Option<Sharpness>,
 }
 
 /// Everything known about one revision of a bench.
@@ -236,7 +239,8 @@ fn trace(bench: &Bench, screens: &[usize], vignetting: bool) -> Result<Traced, S
     count_analysis();
     let analysis = analyse(&compiled.system, &request).map_err(|e| e.to_string())?;
     let beam = bench.laser.as_ref().and_then(|l| laser_beam(l, &analysis));
-    Ok(Traced { compiled, analysis, beam })
+    let sharpness = Sharpness::at_paraxial_image(bench, &analysis, compiled.object);
+    Ok(Traced { compiled, analysis, beam, sharpness })
 }
 
 /// The laser's beam through the sequence of its wavelength (which validation has made one of the bench's,

@@ -20,6 +20,7 @@ pub mod model;
 pub mod mount;
 mod reasons;
 pub mod report;
+pub mod sharpness;
 pub mod stray;
 pub mod tolerance;
 pub mod validate;

@@ -264,6 +264,11 @@ pub struct Report {
     /// The stray-focus map: where the light lens surfaces reflect comes to a focus (null without a lens
     /// surface).
     pub stray: Option<crate::stray::StrayFigures>,
+    /// Wavefront error, Strehl ratio and Zernike terms of each object point at the primary wavelength
+    /// (empty without a real final image).
+    pub wavefront: Vec<crate::sharpness::WavefrontFigures>,
+    /// Polychromatic MTF of each object point: where it falls to 50 % and 10 %, contrast at 10–100 /mm.
+    pub mtf: Vec<crate::sharpness::MtfFigures>,
     /// Each of the bench's aims: its target, the value reached, met or not.
     pub aims: Vec<crate::aims::AimStatus>,
     /// Everything that needs a look.
@@ -344,6 +349,8 @@ impl Report {
             viewing: None,
             beam: None,
             stray: None,
+            wavefront: Vec::new(),
+            mtf: Vec::new(),
             aims: Vec::new(),
             warnings: Vec::new(),
             trace_failure: failure,
@@ -370,6 +377,10 @@ impl Report {
                 report.fill_beam(bench, laser, &t.compiled, beam, screens);
             }
             report.fill_stray(bench, t, screens);
+            if let Some(s) = &t.sharpness {
+                report.wavefront = s.wavefront_figures();
+                report.mtf = s.mtf_figures();
+            }
         }
         if bench.laser.is_some() {
             report.warnings.push(Warning::new(WarningKind::Caution, None, LASER_CAUTION.into()));
@@ -796,6 +807,7 @@ impl Report {
             let pc = f.distortion_percent.map_or_else(|| "—".to_string(), |d| format!("{}%", fixed(d, 4)));
             let _ = writeln!(t, "  distortion {pc}   lateral colour {}", mm(f.lateral_colour_mm));
         }
+        crate::sharpness::write_text(&mut t, &self.wavefront, &self.mtf);
         if !self.aims.is_empty() {
             let met = self.aims.iter().filter(|a| a.met).count();
             let _ = writeln!(t, "\nAims ({met} of {} met)", self.aims.len());

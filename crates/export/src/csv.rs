@@ -79,6 +79,38 @@ pub fn view_csv(views: &Views, kind: ViewKind) -> Option<String> {
                 let _ = writeln!(t, "part,{},{},{}", quoted(&p.part), p.at_mm, p.diameter_mm);
             }
         }
+        ViewKind::Wavefront => {
+            let v = views.sharpness.as_ref()?;
+            t.push_str("point,wavelength_nm,fan,pupil_coordinate,opd_waves\n");
+            for p in &v.points {
+                for w in &p.waves {
+                    let wf = &w.wavefront;
+                    for (name, fan) in [("tangential", &wf.tangential_fan), ("sagittal", &wf.sagittal_fan)] {
+                        for f in fan {
+                            let _ = writeln!(t, "{},{},{name},{},{}", p.point.word(), wf.wavelength_nm, f.p, f.waves);
+                        }
+                    }
+                }
+            }
+        }
+        ViewKind::Sharpness => {
+            let v = views.sharpness.as_ref()?;
+            t.push_str("point,frequency_per_mm,tangential,sagittal,limit_tangential,limit_sagittal\n");
+            for p in &v.points {
+                let Some(m) = &p.mtf else { continue };
+                for (i, f) in m.frequencies_per_mm.iter().enumerate() {
+                    let _ = writeln!(
+                        t,
+                        "{},{f},{},{},{},{}",
+                        p.point.word(),
+                        m.tangential[i],
+                        m.sagittal[i],
+                        m.limit_tangential[i],
+                        m.limit_sagittal[i]
+                    );
+                }
+            }
+        }
     }
     Some(t)
 }

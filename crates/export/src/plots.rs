@@ -106,6 +106,8 @@ pub fn draw_view(ui: &mut egui::Ui, views: &Views, kind: ViewKind, interactive: 
         ViewKind::Colour => colour_ui(ui, views, interactive, height),
         ViewKind::Field => field_ui(ui, views, interactive, height),
         ViewKind::Beam => beam_ui(ui, views, interactive, height),
+        ViewKind::Wavefront => wavefront_ui(ui, views, interactive, height),
+        ViewKind::Sharpness => sharpness_ui(ui, views, interactive, height),
     }
     for n in &views.notes {
         ui.label(n);
@@ -349,4 +351,86 @@ fn beam_ui(ui: &mut egui::Ui, views: &Views, interactive: bool, height: f32) {
             fixed(w.rayleigh_range_mm, 2)
         ));
     }
+}
+/// The wavefront view: each point's OPD fans (tangential solid, sagittal dashed) at every wavelength, in
+/// waves with piston and tilt removed, with the primary wavelength's figures beneath.
+fn wavefront_ui(ui: &mut egui::Ui, views: &Views, interactive: bool, height: f32) {
+    let Some(v) = &views.sharpness else { return };
+    ui.label(format!(
+        "Wavefront error on a sphere centred on the chief ray's point on {}, waves, piston and tilt removed; \
+         solid: tangential fan, dashed: sagittal fan.",
+        v.plane
+    ));
+    ui.columns(v.points.len().max(1), |cols| {
+        for (col, p) in cols.iter_mut().zip(&v.points) {
+            let height = (height - 2.0 * col.spacing().interact_size.y).max(120.0);
+            let colours: Vec<Color32> = p.waves.iter().map(|w| series_colour(col, w.wavefront.wavelength_nm)).collect();
+            plot(&format!("wavefront {}", p.point.word()), "pupil coordinate", "OPD, waves", interactive, height)
+                .show(col, |plot_ui| {
+                    for (w, &c) in p.waves.iter().zip(&colours) {
+                        let wf = &w.wavefront;
+                        let label = name(p.point, wf.wavelength_nm);
+                        let tan: PlotPoints = wf.tangential_fan.iter().map(|f| [f.p, f.waves]).collect();
+                        let sag: PlotPoints = wf.sagittal_fan.iter().map(|f| [f.p, f.waves]).collect();
+                        plot_ui.line(Line::new(label.clone(), tan).color(c));
+                        plot_ui.line(Line::new(label, sag).color(c).style(LineStyle::dashed_loose()));
+                    }
+                });
+            if let Some(w) = p.primary() {
+                let wf = &w.wavefront;
+                let verdict = if wf.diffraction_limited() { "diffraction-limited" } else { "not diffraction-limited" };
+                col.label(format!(
+                    "{} at {} nm: RMS {} waves, PV {} (focus removed too: RMS {}, PV {}); Strehl {} (Maréchal {}); {verdict} (RMS ≤ λ/14)",
+                    p.point.word(),
+                    fixed(wf.wavelength_nm, 1),
+                    fixed(wf.rms_waves, 4),
+                    fixed(wf.pv_waves, 4),
+                    fixed(wf.rms_focus_removed_waves, 4),
+                    fixed(wf.pv_focus_removed_waves, 4),
+                    fixed(w.strehl, 3),
+                    fixed(wf.strehl_marechal(), 3)
+                ));
+            }
+        }
+    });
+}
+
+/// The sharpness view: each point's polychromatic MTF (tangential solid, sagittal dashed) against spatial
+/// frequency in cycles per mm at the image, with the diffraction limit in grey and the 50 % and 10 %
+/// frequencies beneath.
+fn sharpness_ui(ui: &mut egui::Ui, views: &Views, interactive: bool, height: f32) {
+    let Some(v) = &views.sharpness else { return };
+    ui.label(format!(
+        "MTF of every wavelength by its weight, at {}; solid: tangential, dashed: sagittal, grey: diffraction limit. \
+         A line pair is one cycle.",
+        v.plane
+    ));
+    ui.columns(v.points.len().max(1), |cols| {
+        for (col, p) in cols.iter_mut().zip(&v.points) {
+            let Some(m) = &p.mtf else { continue };
+            let height = (height - 2.0 * col.spacing().interact_size.y).max(120.0);
+            let curve = |c: &[f64]| -> PlotPoints<'static> {
+                m.frequencies_per_mm.iter().zip(c).map(|(f, v)| [*f, *v]).collect()
+            };
+            let ink = col.visuals().text_color();
+            plot(&format!("mtf {}", p.point.word()), "cycles per mm at the image", "contrast", interactive, height)
+                .include_y(0.0)
+                .include_y(1.0)
+                .show(col, |plot_ui| {
+                    plot_ui.line(Line::new("diffraction limit", curve(&m.limit_tangential)).color(Color32::GRAY));
+                    plot_ui.line(Line::new("tangential", curve(&m.tangential)).color(ink));
+                    plot_ui.line(Line::new("sagittal", curve(&m.sagittal)).color(ink).style(LineStyle::dashed_loose()));
+                });
+            let at = |v: Option<f64>| v.map_or_else(|| "—".to_string(), |v| format!("{}/mm", fixed(v, 1)));
+            col.label(format!(
+                "{}: 50% at {} T, {} S; 10% at {} T, {} S; cutoff {}/mm",
+                p.point.word(),
+                at(m.falls_to(&m.tangential, 0.5)),
+                at(m.falls_to(&m.sagittal, 0.5)),
+                at(m.falls_to(&m.tangential, 0.1)),
+                at(m.falls_to(&m.sagittal, 0.1)),
+                fixed(m.cutoff_per_mm, 1)
+            ));
+        }
+    });
 }

@@ -40,6 +40,7 @@
 pub mod analysis;
 pub mod batch;
 pub mod beam;
+pub mod diffraction;
 pub mod field;
 pub mod library;
 pub mod material;
@@ -56,3 +57,4 @@ pub mod spot;
 pub mod stray;
 pub mod system;
 pub mod trace;
+pub mod wavefront;

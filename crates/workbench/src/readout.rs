@@ -90,6 +90,15 @@ impl Workbench {
                 fixed(z, 3)
             ));
         }
+        for w in &r.wavefront {
+            let verdict = if w.diffraction_limited { "diffraction-limited" } else { "not diffraction-limited" };
+            ui.label(format!(
+                "Wavefront, {} point: RMS {} waves (tilt removed), Strehl {}: {verdict} (Maréchal: RMS ≤ λ/14)",
+                w.point,
+                fixed(w.rms_waves, 3),
+                fixed(w.strehl, 3)
+            ));
+        }
         ui.label(format!(
             "Marginal LSA {}, colour focal shift {}",
             mm(ab.marginal_lsa_mm),

@@ -340,3 +340,29 @@ fn picking_the_beam_view_shows_the_laser_beam_and_exports_it() {
     assert!((cols[1] - card.diameter_mm).abs() < 1e-12 * card.diameter_mm, "{last} vs {card:?}");
     let _ = std::fs::remove_dir_all(&dir);
 }
+/// The wavefront and sharpness views (issue 16), picked by their tabs: each shows its plot's caption and
+/// the same figures as the report (one source: the evaluation's sharpness figures).
+#[test]
+fn the_wavefront_and_sharpness_views_show_the_reports_figures() {
+    let mut h = harness("camera-meniscus");
+    h.get_by_label("wavefront").click();
+    h.run();
+    assert_eq!(h.state().views.tab, ViewKind::Wavefront);
+    assert!(h.query_by_label_contains("Wavefront error on a sphere centred on the chief ray's point").is_some());
+    let report = Report::of(&h.state().bench);
+    let w = &report.wavefront[0];
+    let line = h.get_by_label_contains("on-axis at 587.6 nm: RMS").value().unwrap_or_default();
+    assert!(line.contains(&format!("RMS {} waves", fixed(w.rms_waves, 4))), "{line}");
+    assert!(line.contains(&format!("Strehl {}", fixed(w.strehl, 3))), "{line}");
+    h.get_by_label("sharpness").click();
+    h.run();
+    assert_eq!(h.state().views.tab, ViewKind::Sharpness);
+    assert!(h.query_by_label_contains("grey: diffraction limit").is_some());
+    let m = &report.mtf[0];
+    let line = h.get_by_label_contains("on-axis: 50% at").value().unwrap_or_default();
+    let t50 = m.tangential_50_per_mm.map(|v| fixed(v, 1)).unwrap();
+    assert!(line.contains(&format!("50% at {t50}/mm T")), "{line}");
+    // The readout says whether the image is diffraction-limited.
+    let said = h.get_by_label_contains("Wavefront, on-axis point: RMS").value().unwrap_or_default();
+    assert!(said.contains("not diffraction-limited") && !w.diffraction_limited, "{said}");
+}

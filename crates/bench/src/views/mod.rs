@@ -80,12 +80,24 @@ pub enum ViewKind {
     Field,
     /// The laser beam's 1/e² diameter along the rail, with its waists.
     Beam,
+    /// The wavefront view: OPD fans and wavefront figures of each point (issue 16).
+    Wavefront,
+    /// The sharpness view: polychromatic MTF against the diffraction limit (issue 16).
+    Sharpness,
 }
 
 impl ViewKind {
     /// Every view, in menu order.
-    pub const ALL: [ViewKind; 6] =
-        [ViewKind::Spot, ViewKind::Fan, ViewKind::Sweep, ViewKind::Colour, ViewKind::Field, ViewKind::Beam];
+    pub const ALL: [ViewKind; 8] = [
+        ViewKind::Spot,
+        ViewKind::Fan,
+        ViewKind::Sweep,
+        ViewKind::Colour,
+        ViewKind::Field,
+        ViewKind::Beam,
+        ViewKind::Wavefront,
+        ViewKind::Sharpness,
+    ];
 
     /// The view's name on the command line and in menus.
     pub fn word(self) -> &'static str {
@@ -96,6 +108,8 @@ impl ViewKind {
             ViewKind::Colour => "colour",
             ViewKind::Field => "field",
             ViewKind::Beam => "beam",
+            ViewKind::Wavefront => "wavefront",
+            ViewKind::Sharpness => "sharpness",
         }
     }
 
@@ -135,6 +149,9 @@ pub struct Views {
     pub field: Option<FieldView>,
     /// The beam view.
     pub beam: Option<BeamView>,
+    /// The wavefront and sharpness views' data: the evaluation's own sharpness figures (always at the
+    /// paraxial image, whatever the plane asked for).
+    pub sharpness: Option<crate::sharpness::Sharpness>,
     /// Why some views are empty.
     pub notes: Vec<String>,
 }
@@ -155,8 +172,16 @@ impl Views {
 
     /// The views in `kinds` of the evaluated bench (the others are left empty): what an open panel shows.
     pub fn only(evaluation: &Evaluation, request: &ViewRequest, kinds: &[ViewKind]) -> Views {
-        let mut views =
-            Views { spot: None, fan: None, sweep: None, colour: None, field: None, beam: None, notes: Vec::new() };
+        let mut views = Views {
+            spot: None,
+            fan: None,
+            sweep: None,
+            colour: None,
+            field: None,
+            beam: None,
+            sharpness: None,
+            notes: Vec::new(),
+        };
         let report = &evaluation.report;
         if let Some(why) = &report.trace_failure {
             views.notes.push(format!("nothing to show: {why}"));
@@ -179,6 +204,13 @@ impl Views {
             // The beam needs no image plane: the other views' notes would not concern it.
             if kinds.iter().all(|&k| k == ViewKind::Beam) {
                 return views;
+            }
+        }
+        if wants(ViewKind::Wavefront) || wants(ViewKind::Sharpness) {
+            views.sharpness = evaluation.traced.as_ref().and_then(|t| t.sharpness.clone());
+            match &views.sharpness {
+                None => views.notes.push("no wavefront: the bench has no real final image to refer it to".into()),
+                Some(s) => views.notes.extend(s.notes.iter().cloned()),
             }
         }
         if wants(ViewKind::Colour) {
