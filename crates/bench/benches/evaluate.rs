@@ -97,7 +97,7 @@ fn large_files(c: &mut Criterion) {
         t
     };
     let lens_or_screen = |i: usize| {
-        if i % 2 == 0 {
+        if i.is_multiple_of(2) {
             "ThinLens(focal_mm: 100.0, diameter_mm: 25.0)".to_string()
         } else {
             "Screen(diameter_mm: 30.0)".to_string()

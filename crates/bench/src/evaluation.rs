@@ -110,47 +110,67 @@ impl Evaluation {
         Evaluation::evaluate(bench, true)
     }
 
-    /// Evaluates `bench` once, as [`Evaluation::of`] does, except the off-axis point's vignetting when the
-    /// rim certificate cannot vouch for the whole field: that is left pending ([`Evaluation::vignetting_job`]
-    /// gives the work to run, on any thread; [`Evaluation::complete_vignetting`] fills it in), so that a
-    /// drag over a heavily vignetted bench need not wait for the integration. Completed, it is equal to
-    /// [`Evaluation::of`] in every figure.
+    /// Evaluates `bench` once, as [`Evaluation::of`] does, except the slow figures: the sharpness figures,
+    /// and the off-axis point's vignetting when the rim certificate cannot vouch for the whole field. Those
+    /// are left pending ([`Evaluation::vignetting_job`] gives the work to run, on any thread;
+    /// [`Evaluation::complete_vignetting`] fills it in), so that a drag over a heavy bench need not wait for
+    /// them. Completed, it is equal to [`Evaluation::of`] in every figure.
     pub fn live(bench: &Bench) -> Evaluation {
         let mut e = Evaluation::evaluate(bench, false);
         let certified = e.traced.as_ref().and_then(|t| {
             let p = t.analysis.pupils().as_ref().ok()?;
             Some(Vignetting::certified(t.analysis.seq(), t.compiled.object, p))
         });
-        match certified {
-            Some(Some(whole)) => e.complete_vignetting(whole),
-            Some(None) => e.report.vignetting_pending = true,
-            None => e.complete_vignetting_without_pupils(),
+        if let (Some(Some(whole)), Some(t)) = (certified, e.traced.as_mut()) {
+            t.analysis.set_vignetting(whole);
+        }
+        e.report.vignetting_pending = matches!(certified, Some(None));
+        e.report.sharpness_pending = certified.is_some();
+        if certified.is_none()
+            && let Some(t) = e.traced.as_mut()
+        {
+            // Without pupils there is nothing slow to defer.
+            t.sharpness = Sharpness::at_paraxial_image(&e.bench, &t.analysis, t.compiled.object);
+        }
+        if !e.report.vignetting_pending && !e.report.sharpness_pending {
+            e.complete_vignetting(Deferred::default());
+        } else if certified.is_some_and(|c| c.is_some()) {
+            // The certificate's figures are in the analysis: project them, keeping the pending marks.
+            let (v, s) = (e.report.vignetting_pending, e.report.sharpness_pending);
+            e.report = Report::project(&e.bench, &e.findings, e.traced.as_ref(), &e.screens, None);
+            (e.report.vignetting_pending, e.report.sharpness_pending) = (v, s);
         }
         e
     }
 
-    /// The vignetting left pending by [`Evaluation::live`], as owned work for another thread.
+    /// The slow figures left pending by [`Evaluation::live`], as owned work for another thread.
     pub fn vignetting_job(&self) -> Option<VignettingJob> {
-        if !self.report.vignetting_pending {
+        if !self.report.vignetting_pending && !self.report.sharpness_pending {
             return None;
         }
         let t = self.traced.as_ref()?;
         let (seq, pupils) = t.analysis.vignetting_inputs()?;
-        Some(VignettingJob { seq, object: t.compiled.object, pupils })
+        Some(VignettingJob {
+            seq,
+            object: t.compiled.object,
+            pupils,
+            vignetting: self.report.vignetting_pending,
+            sharpness: self.report.sharpness_pending.then(|| (self.bench.clone(), t.analysis.clone())),
+        })
     }
 
-    /// Fills in the vignetting figures (a [`VignettingJob`]'s result for this evaluation) and projects the
-    /// report anew from them.
-    pub fn complete_vignetting(&mut self, v: Vignetting) {
+    /// Fills in the slow figures (a [`VignettingJob`]'s result for this evaluation) and projects the report
+    /// anew from them.
+    pub fn complete_vignetting(&mut self, d: Deferred) {
         if let Some(t) = self.traced.as_mut() {
-            t.analysis.set_vignetting(v);
+            if let Some(v) = d.vignetting {
+                t.analysis.set_vignetting(v);
+            }
+            if let Some(s) = d.sharpness {
+                t.sharpness = s;
+            }
         }
         self.report = Report::project(&self.bench, &self.findings, self.traced.as_ref(), &self.screens, None);
-    }
-
-    /// A traced bench without pupils has no vignetting figures: nothing is pending.
-    fn complete_vignetting_without_pupils(&mut self) {
-        self.report.vignetting_pending = false;
     }
 
     fn evaluate(bench: &Bench, vignetting: bool) -> Evaluation {
@@ -194,18 +214,36 @@ impl Evaluation {
     }
 }
 
-/// The off-axis vignetting of one evaluation, owned, to run on any thread ([`Evaluation::live`]).
+/// The slow figures of one live evaluation, owned, to run on any thread ([`Evaluation::live`]).
 #[derive(Debug, Clone)]
 pub struct VignettingJob {
     seq: Sequence,
     object: Object,
     pupils: Pupils,
+    vignetting: bool,
+    sharpness: Option<(Bench, Analysis)>,
+}
+
+/// What a [`VignettingJob`] computed: the vignetting figures and the sharpness figures, each when it was
+/// pending.
+#[derive(Debug, Clone, Default)]
+pub struct Deferred {
+    /// The off-axis point's vignetting.
+    pub vignetting: Option<Vignetting>,
+    /// The sharpness figures (`Some(None)`: computed, and there are none, e.g. no real final image).
+    pub sharpness: Option<Option<Sharpness>>,
 }
 
 impl VignettingJob {
-    /// Integrates the vignetting ([`Vignetting::of`]).
-    pub fn run(&self) -> Vignetting {
-        Vignetting::of(&self.seq, self.object, &self.pupils)
+    /// Integrates the vignetting ([`Vignetting::of`]) and computes the sharpness figures, as pending.
+    pub fn run(&self) -> Deferred {
+        Deferred {
+            vignetting: self.vignetting.then(|| Vignetting::of(&self.seq, self.object, &self.pupils)),
+            sharpness: self
+                .sharpness
+                .as_ref()
+                .map(|(bench, analysis)| Sharpness::at_paraxial_image(bench, analysis, self.object)),
+        }
     }
 }
 
@@ -239,7 +277,8 @@ fn trace(bench: &Bench, screens: &[usize], vignetting: bool) -> Result<Traced, S
     count_analysis();
     let analysis = analyse(&compiled.system, &request).map_err(|e| e.to_string())?;
     let beam = bench.laser.as_ref().and_then(|l| laser_beam(l, &analysis));
-    let sharpness = Sharpness::at_paraxial_image(bench, &analysis, compiled.object);
+    // A live evaluation leaves the sharpness figures (thousands of aimed skew rays) to its deferred job.
+    let sharpness = if vignetting { Sharpness::at_paraxial_image(bench, &analysis, compiled.object) } else { None };
     Ok(Traced { compiled, analysis, beam, sharpness })
 }
 

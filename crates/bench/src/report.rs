@@ -251,6 +251,9 @@ pub struct Report {
     /// its JSON).
     #[serde(skip_serializing_if = "std::ops::Not::not")]
     pub vignetting_pending: bool,
+    /// Whether the sharpness figures (`wavefront`, `mtf`) are still being computed (as above).
+    #[serde(skip_serializing_if = "std::ops::Not::not")]
+    pub sharpness_pending: bool,
     /// Field curvature, astigmatism, distortion and lateral colour of the off-axis point (null without a
     /// final image or an off-axis point).
     pub field: Option<FieldFigures>,
@@ -344,6 +347,7 @@ impl Report {
             off_axis_clipped_by: None,
             unclipped_field: None,
             vignetting_pending: false,
+            sharpness_pending: false,
             field: None,
             colour: Vec::new(),
             viewing: None,
@@ -789,6 +793,9 @@ impl Report {
         }
         if self.vignetting_pending {
             let _ = writeln!(t, "  off-axis point's vignetting: being computed");
+        }
+        if self.sharpness_pending {
+            let _ = writeln!(t, "  sharpness (wavefront, MTF): being computed");
         }
         if let Some(v) = self.off_axis_transmission {
             let area = self

@@ -1,4 +1,5 @@
-//! The off-axis vignetting of a heavily vignetted bench, integrated off the frame.
+//! The slow figures of a bench — a clipped field's vignetting, the sharpness figures — computed off the
+//! frame.
 //!
 //! Integrating a clipped field's pupil takes thousands of traces (tens of ms on a 60-part bench). While the
 //! rim certificate vouches for the field (most benches) there is nothing to integrate. Otherwise the
@@ -8,8 +9,7 @@
 //! bench on screen arrive. Completed, the evaluation equals [`Evaluation::of`] in every figure.
 
 use crate::Workbench;
-use lumenrail_bench::evaluation::{Evaluation, VignettingJob};
-use lumenrail_optics::analysis::Vignetting;
+use lumenrail_bench::evaluation::{Deferred, Evaluation, VignettingJob};
 use std::sync::mpsc::{Receiver, TryRecvError, channel};
 use std::time::{Duration, Instant};
 
@@ -25,7 +25,7 @@ pub(crate) struct Background {
     /// Whether the last integration took longer than [`FRAME_SHARE`].
     slow: bool,
     /// The integration under way: its revision's result arrives here.
-    running: Option<Receiver<(u64, Vignetting, Duration)>>,
+    running: Option<Receiver<(u64, Deferred, Duration)>>,
 }
 
 impl Background {
@@ -70,7 +70,7 @@ impl Workbench {
                 Ok((revision, v, took)) => {
                     self.background.running = None;
                     self.background.slow = took > FRAME_SHARE;
-                    if revision == self.revision && self.evaluation.report.vignetting_pending {
+                    if revision == self.revision && self.vignetting_pending() {
                         self.evaluation.complete_vignetting(v);
                     }
                 }
@@ -82,7 +82,7 @@ impl Workbench {
                 }
             }
         }
-        if self.evaluation.report.vignetting_pending {
+        if self.vignetting_pending() {
             if self.background.running.is_none()
                 && let Some(job) = self.evaluation.vignetting_job()
             {
@@ -112,8 +112,9 @@ impl Workbench {
         }
     }
 
-    /// Whether the readout's vignetting figures are still being computed.
+    /// Whether the readout's slow figures (a clipped field's vignetting, the sharpness figures) are still
+    /// being computed.
     pub fn vignetting_pending(&self) -> bool {
-        self.evaluation.report.vignetting_pending
+        self.evaluation.report.vignetting_pending || self.evaluation.report.sharpness_pending
     }
 }

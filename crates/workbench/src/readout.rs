@@ -202,6 +202,12 @@ impl Workbench {
                 ui.label("Vignetting of the off-axis point: being computed");
             });
         }
+        if r.sharpness_pending {
+            ui.horizontal(|ui| {
+                ui.spinner();
+                ui.label("Sharpness (wavefront, MTF): being computed");
+            });
+        }
         if let Some(map) = &r.stray {
             ui.separator();
             stray_table_ui(ui, map);

@@ -26,6 +26,9 @@ fn demo_file(dir: &Path) -> PathBuf {
 fn window(wb: Workbench) -> Harness<'static, WorkbenchApp> {
     let mut h =
         Harness::builder().with_size(egui::vec2(1400.0, 860.0)).build_eframe(move |cc| WorkbenchApp::new(cc, wb, None));
+    // Every figure at once, so that `run` settles (a debug build's slow figures would otherwise go to a
+    // background thread and keep the frames coming).
+    h.state_mut().workbench.offload_slow_work(false);
     h.run();
     h
 }

@@ -24,6 +24,8 @@ fn app(demo: &str) -> Harness<'static, WorkbenchApp> {
     let mut h = Harness::builder()
         .with_size(egui::vec2(1400.0, 860.0))
         .build_eframe(|cc| WorkbenchApp::new(cc, Workbench::demo(demo), None));
+    // Every figure at once, so that `run` settles (see tests/heavy.rs for the window's background work).
+    h.state_mut().workbench.offload_slow_work(false);
     h.run();
     h
 }

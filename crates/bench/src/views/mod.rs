@@ -207,7 +207,15 @@ impl Views {
             }
         }
         if wants(ViewKind::Wavefront) || wants(ViewKind::Sharpness) {
-            views.sharpness = evaluation.traced.as_ref().and_then(|t| t.sharpness.clone());
+            views.sharpness = evaluation.traced.as_ref().and_then(|t| {
+                if report.sharpness_pending {
+                    // A live evaluation left them to its job: the view computes them itself (compiling and
+                    // analysing nothing).
+                    crate::sharpness::Sharpness::at_paraxial_image(&evaluation.bench, &t.analysis, t.compiled.object)
+                } else {
+                    t.sharpness.clone()
+                }
+            });
             match &views.sharpness {
                 None => views.notes.push("no wavefront: the bench has no real final image to refer it to".into()),
                 Some(s) => views.notes.extend(s.notes.iter().cloned()),
