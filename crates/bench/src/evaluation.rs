@@ -82,6 +82,9 @@ pub struct Traced {
     pub beam: Option<BeamTrace>,
     /// Wavefronts, PSF and MTF at the paraxial final image (`None` without a real final image).
     pub sharpness: Option<Sharpness>,
+    /// The stray-focus map (`None` without a reflecting glass surface; left to the deferred work of a
+    /// live evaluation).
+    pub stray: Option<crate::stray::StrayFigures>,
 }
 
 /// Everything known about one revision of a bench.
@@ -116,31 +119,7 @@ impl Evaluation {
     /// [`Evaluation::complete_vignetting`] fills it in), so that a drag over a heavy bench need not wait for
     /// them. Completed, it is equal to [`Evaluation::of`] in every figure.
     pub fn live(bench: &Bench) -> Evaluation {
-        let mut e = Evaluation::evaluate(bench, false);
-        let certified = e.traced.as_ref().and_then(|t| {
-            let p = t.analysis.pupils().as_ref().ok()?;
-            Some(Vignetting::certified(t.analysis.seq(), t.compiled.object, p))
-        });
-        if let (Some(Some(whole)), Some(t)) = (certified, e.traced.as_mut()) {
-            t.analysis.set_vignetting(whole);
-        }
-        e.report.vignetting_pending = matches!(certified, Some(None));
-        e.report.sharpness_pending = certified.is_some();
-        if certified.is_none()
-            && let Some(t) = e.traced.as_mut()
-        {
-            // Without pupils there is nothing slow to defer.
-            t.sharpness = Sharpness::at_paraxial_image(&e.bench, &t.analysis, t.compiled.object);
-        }
-        if !e.report.vignetting_pending && !e.report.sharpness_pending {
-            e.complete_vignetting(Deferred::default());
-        } else if certified.is_some_and(|c| c.is_some()) {
-            // The certificate's figures are in the analysis: project them, keeping the pending marks.
-            let (v, s) = (e.report.vignetting_pending, e.report.sharpness_pending);
-            e.report = Report::project(&e.bench, &e.findings, e.traced.as_ref(), &e.screens, None);
-            (e.report.vignetting_pending, e.report.sharpness_pending) = (v, s);
-        }
-        e
+        Evaluation::evaluate(bench, false)
     }
 
     /// The slow figures left pending by [`Evaluation::live`], as owned work for another thread.
@@ -155,7 +134,10 @@ impl Evaluation {
             object: t.compiled.object,
             pupils,
             vignetting: self.report.vignetting_pending,
-            sharpness: self.report.sharpness_pending.then(|| (self.bench.clone(), t.analysis.clone())),
+            slow: self
+                .report
+                .sharpness_pending
+                .then(|| (self.bench.clone(), Box::new(t.clone()), self.screens.clone())),
         })
     }
 
@@ -166,8 +148,9 @@ impl Evaluation {
             if let Some(v) = d.vignetting {
                 t.analysis.set_vignetting(v);
             }
-            if let Some(s) = d.sharpness {
-                t.sharpness = s;
+            if let Some((sharpness, stray)) = d.slow {
+                t.sharpness = sharpness;
+                t.stray = stray;
             }
         }
         self.report = Report::project(&self.bench, &self.findings, self.traced.as_ref(), &self.screens, None);
@@ -183,7 +166,7 @@ impl Evaluation {
         let mut failure = None;
         let errors: Vec<&str> =
             findings.iter().filter(|f| f.severity == Severity::Error).map(|f| f.message.as_str()).collect();
-        let traced = if !errors.is_empty() {
+        let mut traced = if !errors.is_empty() {
             failure = Some(errors.join("; "));
             None
         } else {
@@ -195,11 +178,35 @@ impl Evaluation {
                 }
             }
         };
+        // Live: the rim certificate, when it vouches for the field, gives the vignetting at once; otherwise it
+        // and the sharpness figures are left pending (one projection of the report either way).
+        let (mut vignetting_pending, mut sharpness_pending) = (false, false);
+        if !vignetting && let Some(t) = traced.as_mut() {
+            match t
+                .analysis
+                .pupils()
+                .as_ref()
+                .ok()
+                .map(|p| Vignetting::certified(t.analysis.seq(), t.compiled.object, p))
+            {
+                Some(Some(whole)) => {
+                    t.analysis.set_vignetting(whole);
+                    sharpness_pending = true;
+                }
+                Some(None) => (vignetting_pending, sharpness_pending) = (true, true),
+                // Without pupils there is little to defer: computed here.
+                None => {
+                    t.sharpness = Sharpness::at_paraxial_image(bench, &t.analysis, t.compiled.object);
+                    t.stray = crate::stray::StrayFigures::of(bench, t, &screens);
+                }
+            }
+        }
         let rail_fans = traced.as_ref().map_or_else(Vec::new, rail_fans);
         let part_first_order = (0..bench.parts.len())
             .map(|i| traced.as_ref().and_then(|t| part_first_order(t.analysis.seq(), i)))
             .collect();
-        let report = Report::project(bench, &findings, traced.as_ref(), &screens, failure);
+        let mut report = Report::project(bench, &findings, traced.as_ref(), &screens, failure);
+        (report.vignetting_pending, report.sharpness_pending) = (vignetting_pending, sharpness_pending);
         Evaluation { bench: bench.clone(), findings, traced, screens, rail_fans, part_first_order, report }
     }
 
@@ -221,7 +228,8 @@ pub struct VignettingJob {
     object: Object,
     pupils: Pupils,
     vignetting: bool,
-    sharpness: Option<(Bench, Analysis)>,
+    /// For the sharpness figures and the stray-focus map: the bench, what was traced, and its screens.
+    slow: Option<(Bench, Box<Traced>, Vec<usize>)>,
 }
 
 /// What a [`VignettingJob`] computed: the vignetting figures and the sharpness figures, each when it was
@@ -230,19 +238,23 @@ pub struct VignettingJob {
 pub struct Deferred {
     /// The off-axis point's vignetting.
     pub vignetting: Option<Vignetting>,
-    /// The sharpness figures (`Some(None)`: computed, and there are none, e.g. no real final image).
-    pub sharpness: Option<Option<Sharpness>>,
+    /// The sharpness figures and the stray-focus map (`Some((None, _))`: computed, and there are none,
+    /// e.g. no real final image).
+    pub slow: Option<(Option<Sharpness>, Option<crate::stray::StrayFigures>)>,
 }
 
 impl VignettingJob {
-    /// Integrates the vignetting ([`Vignetting::of`]) and computes the sharpness figures, as pending.
+    /// Integrates the vignetting ([`Vignetting::of`]) and computes the sharpness figures and the
+    /// stray-focus map, as pending.
     pub fn run(&self) -> Deferred {
         Deferred {
             vignetting: self.vignetting.then(|| Vignetting::of(&self.seq, self.object, &self.pupils)),
-            sharpness: self
-                .sharpness
-                .as_ref()
-                .map(|(bench, analysis)| Sharpness::at_paraxial_image(bench, analysis, self.object)),
+            slow: self.slow.as_ref().map(|(bench, traced, screens)| {
+                (
+                    Sharpness::at_paraxial_image(bench, &traced.analysis, self.object),
+                    crate::stray::StrayFigures::of(bench, traced, screens),
+                )
+            }),
         }
     }
 }
@@ -279,7 +291,11 @@ fn trace(bench: &Bench, screens: &[usize], vignetting: bool) -> Result<Traced, S
     let beam = bench.laser.as_ref().and_then(|l| laser_beam(l, &analysis));
     // A live evaluation leaves the sharpness figures (thousands of aimed skew rays) to its deferred job.
     let sharpness = if vignetting { Sharpness::at_paraxial_image(bench, &analysis, compiled.object) } else { None };
-    Ok(Traced { compiled, analysis, beam, sharpness })
+    let mut traced = Traced { compiled, analysis, beam, sharpness, stray: None };
+    if vignetting {
+        traced.stray = crate::stray::StrayFigures::of(bench, &traced, screens);
+    }
+    Ok(traced)
 }
 
 /// The laser's beam through the sequence of its wavelength (which validation has made one of the bench's,

@@ -251,7 +251,8 @@ pub struct Report {
     /// its JSON).
     #[serde(skip_serializing_if = "std::ops::Not::not")]
     pub vignetting_pending: bool,
-    /// Whether the sharpness figures (`wavefront`, `mtf`) are still being computed (as above).
+    /// Whether the sharpness figures (`wavefront`, `mtf`) and the stray-focus map (`stray`) are still
+    /// being computed (as above).
     #[serde(skip_serializing_if = "std::ops::Not::not")]
     pub sharpness_pending: bool,
     /// Field curvature, astigmatism, distortion and lateral colour of the off-axis point (null without a
@@ -414,8 +415,8 @@ impl Report {
     }
 
     /// The stray-focus map and its warnings.
-    fn fill_stray(&mut self, bench: &Bench, traced: &Traced, screens: &[usize]) {
-        let Some(map) = crate::stray::StrayFigures::of(bench, traced, screens) else { return };
+    fn fill_stray(&mut self, _bench: &Bench, traced: &Traced, _screens: &[usize]) {
+        let Some(map) = traced.stray.clone() else { return };
         for (part, message) in map.warnings() {
             self.warnings.push(Warning::new(WarningKind::StrayFocus, part.as_deref(), message));
         }
@@ -795,7 +796,7 @@ impl Report {
             let _ = writeln!(t, "  off-axis point's vignetting: being computed");
         }
         if self.sharpness_pending {
-            let _ = writeln!(t, "  sharpness (wavefront, MTF): being computed");
+            let _ = writeln!(t, "  sharpness (wavefront, MTF) and the stray-focus map: being computed");
         }
         if let Some(v) = self.off_axis_transmission {
             let area = self

@@ -529,20 +529,19 @@ fn place(ctx: &Context<'_>, path: &StrayPath, f: &StrayFocus) -> String {
 
 /// The nearest surface vertex of the bench or the laser's exit to `z`, and its distance, mm.
 fn nearest(ctx: &Context<'_>, z: f64) -> Option<Nearest> {
-    let mut best: Option<Nearest> = None;
-    let mut consider = |what: String, at: f64| {
-        let d = (z - at).abs();
-        if best.as_ref().is_none_or(|b| d < b.distance_mm) {
-            best = Some(Nearest { what, distance_mm: d });
-        }
-    };
-    for s in &ctx.seq.steps {
-        if !s.is_aperture_only() {
-            consider(ctx.bench.parts[s.element].name.clone(), s.z_mm);
-        }
+    // The closest surface first, by distance alone; only the winner's name is copied.
+    let surface = ctx
+        .seq
+        .steps
+        .iter()
+        .filter(|s| !s.is_aperture_only())
+        .map(|s| ((z - s.z_mm).abs(), s.element))
+        .fold(None, |best: Option<(f64, usize)>, c| if best.is_none_or(|b| c.0 < b.0) { Some(c) } else { best });
+    let laser = ctx.bench.laser.as_ref().map(|l| (z - l.at_mm).abs());
+    match (surface, laser) {
+        (Some((d, _)), Some(dl)) if dl < d => Some(Nearest { what: "the laser".into(), distance_mm: dl }),
+        (None, Some(dl)) => Some(Nearest { what: "the laser".into(), distance_mm: dl }),
+        (Some((d, element)), _) => Some(Nearest { what: ctx.bench.parts[element].name.clone(), distance_mm: d }),
+        (None, None) => None,
     }
-    if let Some(l) = &ctx.bench.laser {
-        consider("the laser".into(), l.at_mm);
-    }
-    best
 }

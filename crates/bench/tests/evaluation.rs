@@ -170,7 +170,11 @@ fn a_live_evaluation_completed_equals_the_whole_one() {
                 assert!(live.report.to_text().contains("vignetting: being computed"));
             }
             if live.report.sharpness_pending {
-                assert!(live.report.to_text().contains("sharpness (wavefront, MTF): being computed"));
+                assert!(
+                    live.report
+                        .to_text()
+                        .contains("sharpness (wavefront, MTF) and the stray-focus map: being computed")
+                );
             }
             live.complete_vignetting(job.run());
         }

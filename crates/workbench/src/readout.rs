@@ -205,7 +205,7 @@ impl Workbench {
         if r.sharpness_pending {
             ui.horizontal(|ui| {
                 ui.spinner();
-                ui.label("Sharpness (wavefront, MTF): being computed");
+                ui.label("Sharpness (wavefront, MTF) and the stray-focus map: being computed");
             });
         }
         if let Some(map) = &r.stray {
