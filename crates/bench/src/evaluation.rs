@@ -13,6 +13,7 @@
 //! point's rotational symmetry).
 
 use crate::compile::{self, Compiled};
+use crate::instrument::InstrumentFigures;
 use crate::model::{Bench, Laser, PartKind};
 use crate::report::Report;
 use crate::validate::{Finding, Severity, validate};
@@ -126,10 +127,15 @@ impl Evaluation {
             }
         };
         let rail_fans = traced.as_ref().map_or_else(Vec::new, rail_fans);
-        let part_first_order = (0..bench.parts.len())
+        let part_first_order: Vec<Option<FirstOrder>> = (0..bench.parts.len())
             .map(|i| traced.as_ref().and_then(|t| part_first_order(t.analysis.seq(), i)))
             .collect();
-        let report = Report::project(bench, &findings, traced.as_ref(), &screens, failure);
+        let mut report = Report::project(bench, &findings, traced.as_ref(), &screens, failure);
+        if let Some(t) = &traced
+            && let Ok(pupils) = t.analysis.pupils()
+        {
+            report.instrument = InstrumentFigures::of(bench, &report, t.analysis.seq(), pupils, &part_first_order);
+        }
         Evaluation { bench: bench.clone(), findings, traced, screens, rail_fans, part_first_order, report }
     }
 

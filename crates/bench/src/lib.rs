@@ -16,6 +16,7 @@ pub mod demos;
 pub mod drawer;
 pub mod evaluation;
 pub mod file;
+pub mod instrument;
 pub mod model;
 pub mod mount;
 pub mod report;

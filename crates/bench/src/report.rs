@@ -254,6 +254,9 @@ pub struct Report {
     pub viewing: Option<Viewing>,
     /// The laser beam's figures (null without a laser on the bench).
     pub beam: Option<BeamFigures>,
+    /// What a viewer gets: magnifying power, magnification, exit pupil, field of view (null unless the
+    /// bench is afocal or forms an image for viewing).
+    pub instrument: Option<crate::instrument::InstrumentFigures>,
     /// Each of the bench's aims: its target, the value reached, met or not.
     pub aims: Vec<crate::aims::AimStatus>,
     /// Everything that needs a look.
@@ -332,6 +335,7 @@ impl Report {
             colour: Vec::new(),
             viewing: None,
             beam: None,
+            instrument: None,
             aims: Vec::new(),
             warnings: Vec::new(),
             trace_failure: failure,
@@ -685,6 +689,9 @@ impl Report {
                 mm(af.exit_pupil_diameter_mm),
                 mm(af.eye_relief_mm)
             );
+        }
+        if let Some(i) = &self.instrument {
+            i.write_text(&mut t);
         }
         if !self.screens.is_empty() {
             let _ = writeln!(t, "\nScreens (on-axis point, primary wavelength)");
