@@ -42,6 +42,9 @@ pub const DEMOS: &[Demo] = &[
     demo!("colour-achromat"),
     demo!("autocollimation"),
     demo!("camera-meniscus"),
+    demo!("myopic-eye"),
+    demo!("myopic-eye-corrected"),
+    demo!("hyperopic-reading"),
 ];
 
 /// The demo the workbench opens when no file is given.

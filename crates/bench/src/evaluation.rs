@@ -13,9 +13,11 @@
 //! point's rotational symmetry).
 
 use crate::compile::{self, Compiled};
+use crate::eye::{EYE_CAUTION, EyeFigures};
 use crate::instrument::InstrumentFigures;
 use crate::model::{Bench, Laser, PartKind};
 use crate::report::Report;
+use crate::report::{Warning, WarningKind};
 use crate::validate::{Finding, Severity, validate};
 use lumenrail_optics::analysis::{Analysis, PartialPlane, Request, analyse};
 use lumenrail_optics::beam::{BeamTrace, LaserSource};
@@ -136,6 +138,19 @@ impl Evaluation {
         {
             report.instrument = InstrumentFigures::of(bench, &report, t.analysis.seq(), pupils, &part_first_order);
         }
+        if let Some(e) = eye_index(bench) {
+            let retina = traced.as_ref().and_then(|t| match &t.analysis.spot {
+                Some(Ok(s)) => s.planes.get(retina_plane(bench, &t.compiled, &screens)).copied(),
+                _ => None,
+            });
+            report.eye = EyeFigures::of(bench, e, &report, retina.as_ref(), part_first_order[e].as_ref());
+            report.warnings.push(Warning {
+                kind: WarningKind::Caution,
+                part: None,
+                field: None,
+                message: EYE_CAUTION.into(),
+            });
+        }
         Evaluation { bench: bench.clone(), findings, traced, screens, rail_fans, part_first_order, report }
     }
 
@@ -168,6 +183,10 @@ fn trace(bench: &Bench, screens: &[usize]) -> Result<Traced, String> {
             partial_planes.push(PartialPlane { surfaces, at_mm });
         }
     }
+    if let Some(e) = eye_index(bench) {
+        // The retina is the eye's screen, after every screen's plane.
+        planes_mm.push(bench.parts[e].end_mm());
+    }
     let request = Request {
         object: compiled.object,
         wavelengths_nm: bench.wavelengths_nm.clone(),
@@ -181,6 +200,17 @@ fn trace(bench: &Bench, screens: &[usize]) -> Result<Traced, String> {
     let analysis = analyse(&compiled.system, &request).map_err(|e| e.to_string())?;
     let beam = bench.laser.as_ref().and_then(|l| laser_beam(l, &analysis));
     Ok(Traced { compiled, analysis, beam })
+}
+
+/// The eye part, if the bench has one (validation allows one, as the last part).
+fn eye_index(bench: &Bench) -> Option<usize> {
+    bench.parts.iter().position(|p| matches!(p.kind, PartKind::Eye { .. }))
+}
+
+/// The index of the retina among the analysis's spot planes: after the screens in the final space.
+fn retina_plane(bench: &Bench, compiled: &Compiled, screens: &[usize]) -> usize {
+    let last_z = compiled.system.surfaces.last().map_or(0.0, |s| s.vertex_z_mm);
+    screens.iter().filter(|&&i| (bench.parts[i].at_mm - last_z) * compiled.final_direction >= 0.0).count()
 }
 
 /// The laser's beam through the sequence of its wavelength (which validation has made one of the bench's,

@@ -233,7 +233,7 @@ impl InstrumentFigures {
                 );
                 let _ = writeln!(
                     t,
-                    "  optical tube length {} mm; −(L/f_o)(250/f_e) = {}×",
+                    "  optical tube length {} mm; -(L/f_o)(250/f_e) = {}×",
                     num(self.tube_length_mm, 3),
                     num(self.overall_magnification_formula, 3)
                 );

@@ -15,6 +15,7 @@ pub mod compile;
 pub mod demos;
 pub mod drawer;
 pub mod evaluation;
+pub mod eye;
 pub mod file;
 pub mod instrument;
 pub mod model;

@@ -257,6 +257,9 @@ pub struct Report {
     /// What a viewer gets: magnifying power, magnification, exit pupil, field of view (null unless the
     /// bench is afocal or forms an image for viewing).
     pub instrument: Option<crate::instrument::InstrumentFigures>,
+    /// What the eye part gets: its retina's blur, whether it can focus, its correction (null without an
+    /// eye on the bench).
+    pub eye: Option<crate::eye::EyeFigures>,
     /// Each of the bench's aims: its target, the value reached, met or not.
     pub aims: Vec<crate::aims::AimStatus>,
     /// Everything that needs a look.
@@ -336,6 +339,7 @@ impl Report {
             viewing: None,
             beam: None,
             instrument: None,
+            eye: None,
             aims: Vec::new(),
             warnings: Vec::new(),
             trace_failure: failure,
@@ -692,6 +696,9 @@ impl Report {
         }
         if let Some(i) = &self.instrument {
             i.write_text(&mut t);
+        }
+        if let Some(e) = &self.eye {
+            e.write_text(&mut t);
         }
         if !self.screens.is_empty() {
             let _ = writeln!(t, "\nScreens (on-axis point, primary wavelength)");
