@@ -18,6 +18,7 @@ pub mod evaluation;
 pub mod eye;
 pub mod file;
 pub mod instrument;
+pub mod lab;
 pub mod model;
 pub mod mount;
 pub mod report;
