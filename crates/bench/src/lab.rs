@@ -325,7 +325,7 @@ fn displacement(e: &Evaluation) -> Result<Parts, LabError> {
         )));
     }
     let disc = reduced * reduced - 4.0 * reduced * f;
-    if !(disc > 0.0) {
+    if disc.is_nan() || disc <= 0.0 {
         return Err(LabError::Impossible(format!(
             "object to screen D = {} is not more than 4f + h = {}: no lens position gives a sharp image; move the screen out",
             mm(d_total),
