@@ -41,6 +41,7 @@ pub const DEMOS: &[Demo] = &[
     demo!("colour-singlet"),
     demo!("colour-achromat"),
     demo!("autocollimation"),
+    demo!("bessel-lab"),
     demo!("camera-meniscus"),
     demo!("myopic-eye"),
     demo!("myopic-eye-corrected"),

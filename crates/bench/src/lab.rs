@@ -366,7 +366,7 @@ fn displacement(e: &Evaluation) -> Result<Parts, LabError> {
         "Keep sliding towards the screen until the image is sharp again, smaller now: position 2. Note its height too."
             .into(),
         "Repeat both settings three times, approaching from either side, and average them.".into(),
-        "Compute d = position 2 - position 1 and f = (D^2 - d^2)/(4D). The method works only when D > 4f.".into(),
+        "Compute d = position 2 − position 1 and f = (D² − d²)/(4D). The method works only when D > 4f.".into(),
     ];
     let columns = vec![
         "trial".into(),
@@ -385,9 +385,9 @@ fn displacement(e: &Evaluation) -> Result<Parts, LabError> {
         answer("displacement d", mm(d)),
         answer("magnification at 1, at 2", format!("{}, {}", fixed(m[0], 4), fixed(m[1], 4))),
         answer("image height at 1, at 2", format!("{}, {}", mm(key.image_heights_mm[0]), mm(key.image_heights_mm[1]))),
-        answer("simple formula (D^2 - d^2)/(4D)", mm(simple)),
-        answer("systematic error (simple - true)", mm(simple - f)),
-        answer("(h/4)(1 + d^2/(D(D - h)))", mm(h / 4.0 * (1.0 + d * d / (d_total * (d_total - h))))),
+        answer("simple formula (D² − d²)/(4D)", mm(simple)),
+        answer("systematic error (simple − true)", mm(simple - f)),
+        answer("(h/4)(1 + d²/(D(D − h)))", mm(h / 4.0 * (1.0 + d * d / (d_total * (d_total - h))))),
     ];
     let notes = vec![
         "The two positions are the lens's first vertex as the rail scale reads it; a carrier's mark may sit elsewhere on the carrier.".into(),
@@ -433,7 +433,7 @@ fn autocollimation(e: &Evaluation) -> Result<Parts, LabError> {
         answer("lens vertex on the rail for a sharp return", mm(key.lens_at_mm)),
         answer("reading: crosshair to vertex (front focal length)", mm(reading)),
         answer("true focal length f", mm(f)),
-        answer("systematic error (true - reading)", mm(h1)),
+        answer("systematic error (true − reading)", mm(h1)),
     ];
     let notes = vec![
         "The distance read is a vertex distance; the focal length is measured from the front principal plane, which lies the systematic error above behind the vertex.".into(),
