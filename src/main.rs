@@ -126,6 +126,24 @@ enum Command {
         #[arg(long)]
         json: bool,
     },
+    /// A printable lab sheet for the class (PDF: the bench to scale, parts list, procedure, a blank
+    /// readings table, cautions) and, with --answers, the instructor's answer key computed from the bench.
+    LabSheet {
+        /// The bench file (.bench.ron).
+        file: PathBuf,
+        /// Which lab.
+        #[arg(long, value_parser = ["displacement", "autocollimation", "magnification"])]
+        lab: String,
+        /// Write the class's sheet here.
+        #[arg(long, value_name = "OUT.pdf")]
+        pdf: PathBuf,
+        /// Write the answer key here (a separate PDF).
+        #[arg(long, value_name = "OUT.pdf")]
+        answers: Option<PathBuf>,
+        /// The paper size.
+        #[arg(long, default_value = "a4", value_parser = ["a4", "letter"])]
+        paper: String,
+    },
     /// List the built-in demo benches, or print one: `lumenrail demos NAME > my.bench.ron`.
     Demos {
         /// The demo to print.
@@ -222,6 +240,9 @@ fn main() -> ExitCode {
             use lumenrail_bench::tolerance::{Distribution, MonteCarloOptions};
             let distribution = if normal { Distribution::NORMAL } else { Distribution::Uniform };
             tolerance_cmd(&file, MonteCarloOptions { trials, seed, distribution, refocus }, json)
+        }
+        Some(Command::LabSheet { file, lab, pdf, answers, paper }) => {
+            lab_sheet(&file, &lab, &pdf, answers.as_deref(), &paper)
         }
         Some(Command::Materials) => {
             for e in library::entries() {
@@ -365,6 +386,42 @@ struct MountOutputs<'a> {
     csv: Option<&'a Path>,
     svg: Option<&'a Path>,
     dxf: Option<&'a Path>,
+}
+
+/// `lumenrail lab-sheet FILE --lab LAB --pdf OUT [--answers OUT] [--paper a4|letter]`: exits 1 when the
+/// bench cannot hold that lab (the message says why), 2 on bad input or a file that cannot be written.
+fn lab_sheet(path: &Path, lab: &str, pdf: &Path, answers: Option<&Path>, paper: &str) -> ExitCode {
+    use lumenrail_bench::lab::{Lab, LabSheet};
+    use lumenrail_export::lab::{Paper, answers_pdf, sheet_pdf};
+    let (Some(lab), Some(paper)) = (Lab::from_word(lab), Paper::from_word(paper)) else {
+        eprintln!("lumenrail lab-sheet: unknown lab or paper");
+        return ExitCode::from(2);
+    };
+    let Some(loaded) = load(path) else {
+        return ExitCode::from(2);
+    };
+    let evaluation = lumenrail_bench::evaluation::Evaluation::of(&loaded.bench);
+    let sheet = match LabSheet::of(&evaluation, lab) {
+        Ok(s) => s,
+        Err(e) => {
+            eprintln!("{}: {e}", path.display());
+            return ExitCode::from(1);
+        }
+    };
+    let mut outputs = vec![(pdf, sheet_pdf(&evaluation, &sheet, paper))];
+    if let Some(a) = answers {
+        outputs.push((a, answers_pdf(&sheet, paper)));
+    }
+    for (out, bytes) in outputs {
+        let written =
+            bytes.map_err(|e| e.to_string()).and_then(|b| file::write_atomic(out, &b).map_err(|e| e.to_string()));
+        if let Err(e) = written {
+            eprintln!("lumenrail lab-sheet: {e}");
+            return ExitCode::from(2);
+        }
+        eprintln!("wrote {}", out.display());
+    }
+    ExitCode::SUCCESS
 }
 
 /// `lumenrail mount-sheet FILE [--csv OUT] [--svg OUT] [--dxf OUT] [--json] [--inch] [--datum D]

@@ -96,6 +96,34 @@ enum Face {
     Refract(f64, Shape, Material),
     Mirror(f64, Shape),
     Ideal(f64, f64),
+    /// An eye's refracting surface: no rim of its own (the pupil limits the light).
+    Open(f64, Shape, Material),
+    /// An eye's pupil: an aperture of this semi-diameter in the medium of this index.
+    Pupil(f64, f64, f64),
+}
+
+/// An eye's faces: its refracting surfaces from the cornea, with the pupil on its plane (before the surface
+/// that lies there). Refused numbers give no faces (validation has said why).
+fn eye_faces(kind: &PartKind, at_mm: f64) -> Vec<Face> {
+    let (Ok(state), PartKind::Eye { pupil_mm, .. }) = (kind.eye_state(), kind) else {
+        return Vec::new();
+    };
+    let mut out = Vec::new();
+    let mut pupil = Some(0.5 * pupil_mm);
+    let mut index = 1.0;
+    let pupil_at = at_mm + state.optics.pupil_at_mm;
+    for s in &state.optics.surfaces {
+        if s.at_mm >= state.optics.pupil_at_mm
+            && let Some(semi) = pupil.take()
+        {
+            out.push(Face::Pupil(pupil_at, semi, index));
+        }
+        index = s.index_after;
+        let shape = if s.curvature_per_mm == 0.0 { Shape::Flat } else { Shape::sphere(1.0 / s.curvature_per_mm) };
+        out.push(Face::Open(at_mm + s.at_mm, shape, Material::Constant(s.index_after)));
+    }
+    out.extend(pupil.map(|semi| Face::Pupil(pupil_at, semi, index)));
+    out
 }
 
 fn faces(kind: &PartKind, at_mm: f64) -> Result<Vec<Face>, UnknownMaterial> {
@@ -113,6 +141,7 @@ fn faces(kind: &PartKind, at_mm: f64) -> Result<Vec<Face>, UnknownMaterial> {
         PartKind::Mirror { surface, .. } => vec![Face::Mirror(at_mm, shape(surface))],
         PartKind::Iris { .. } => vec![Face::Refract(at_mm, Shape::Flat, Material::AIR)],
         PartKind::Screen { .. } => vec![],
+        PartKind::Eye { .. } => eye_faces(kind, at_mm),
     })
 }
 
@@ -164,11 +193,15 @@ pub fn compile(bench: &Bench) -> Result<Compiled, UnknownMaterial> {
             }
             for face in part_faces {
                 let s = match face {
-                    Face::Refract(z, shape, into) => Surface::refracting(z, shape, into),
-                    Face::Mirror(z, shape) => Surface::mirror(z, shape),
-                    Face::Ideal(z, f) => Surface::ideal_lens(z, f),
+                    Face::Refract(z, shape, into) => Surface::refracting(z, shape, into).with_semi_aperture(semi),
+                    Face::Mirror(z, shape) => Surface::mirror(z, shape).with_semi_aperture(semi),
+                    Face::Ideal(z, f) => Surface::ideal_lens(z, f).with_semi_aperture(semi),
+                    Face::Open(z, shape, into) => Surface::refracting(z, shape, into),
+                    Face::Pupil(z, pupil_semi, n) => {
+                        Surface::refracting(z, Shape::Flat, Material::Constant(n)).with_semi_aperture(pupil_semi)
+                    }
                 };
-                surfaces.push(s.with_semi_aperture(semi).in_element(i));
+                surfaces.push(s.in_element(i));
             }
             if matches!(part.kind, PartKind::Mirror { .. }) {
                 turned = Some(part.at_mm);
@@ -206,7 +239,7 @@ fn reverse(forward: Vec<Face>) -> Vec<Face> {
     let media: Vec<Option<Material>> = forward
         .iter()
         .map(|f| match f {
-            Face::Refract(_, _, m) => Some(m.clone()),
+            Face::Refract(_, _, m) | Face::Open(_, _, m) => Some(m.clone()),
             _ => None,
         })
         .collect();
@@ -216,6 +249,10 @@ fn reverse(forward: Vec<Face>) -> Vec<Face> {
             Face::Refract(z, shape, _) => {
                 let before = if k == 0 { Material::AIR } else { media[k - 1].clone().unwrap_or(Material::AIR) };
                 Face::Refract(z, shape, before)
+            }
+            Face::Open(z, shape, _) => {
+                let before = if k == 0 { Material::AIR } else { media[k - 1].clone().unwrap_or(Material::AIR) };
+                Face::Open(z, shape, before)
             }
             other => other,
         });

@@ -42,7 +42,11 @@ pub const DEMOS: &[Demo] = &[
     demo!("colour-singlet"),
     demo!("colour-achromat"),
     demo!("autocollimation"),
+    demo!("bessel-lab"),
     demo!("camera-meniscus"),
+    demo!("myopic-eye"),
+    demo!("myopic-eye-corrected"),
+    demo!("hyperopic-reading"),
 ];
 
 /// The demo the workbench opens when no file is given.

@@ -137,7 +137,7 @@ impl DrawerItem {
 /// surfaces' thick paraxial trace, as the bench's evaluation gives each part's own first order. `None`
 /// for an iris or a screen, a part without power, or a glass with no index at that wavelength.
 pub fn first_order_alone(kind: &PartKind, wavelength_nm: f64) -> Option<lumenrail_optics::paraxial::FirstOrder> {
-    if matches!(kind, PartKind::Screen { .. } | PartKind::Iris { .. }) {
+    if matches!(kind, PartKind::Screen { .. } | PartKind::Iris { .. } | PartKind::Eye { .. }) {
         return None;
     }
     let bench = Bench {
@@ -234,12 +234,13 @@ pub fn validate(drawer: &Drawer) -> Vec<Finding> {
                 );
             }
         }
-        if matches!(item.part, PartKind::Screen { .. }) {
+        if matches!(item.part, PartKind::Screen { .. } | PartKind::Eye { .. }) {
             error(
                 Some(i),
                 "part",
                 format!(
-                    "{who}: a screen is not kept in the drawer (it belongs to the bench); a drawer holds thin lenses, singlets, doublets, mirrors and irises"
+                    "{who}: a {} is not kept in the drawer (it belongs to the bench); a drawer holds thin lenses, singlets, doublets, mirrors and irises",
+                    item.part.word()
                 ),
             );
         }

@@ -13,9 +13,12 @@
 //! point's rotational symmetry).
 
 use crate::compile::{self, Compiled};
+use crate::eye::{EYE_CAUTION, EyeFigures};
+use crate::instrument::InstrumentFigures;
 use crate::model::{Bench, Laser, PartKind};
 use crate::report::Report;
 use crate::sharpness::Sharpness;
+use crate::report::{Warning, WarningKind};
 use crate::validate::{Finding, Severity, validate};
 use lumenrail_optics::analysis::{Analysis, PartialPlane, Request, Vignetting, analyse};
 use lumenrail_optics::beam::{BeamTrace, LaserSource};
@@ -154,6 +157,7 @@ impl Evaluation {
             }
         }
         self.report = Report::project(&self.bench, &self.findings, self.traced.as_ref(), &self.screens, None);
+        report_extras(&self.bench, self.traced.as_ref(), &self.screens, &self.part_first_order, &mut self.report);
     }
 
     fn evaluate(bench: &Bench, vignetting: bool) -> Evaluation {
@@ -202,11 +206,12 @@ impl Evaluation {
             }
         }
         let rail_fans = traced.as_ref().map_or_else(Vec::new, rail_fans);
-        let part_first_order = (0..bench.parts.len())
+        let part_first_order: Vec<Option<FirstOrder>> = (0..bench.parts.len())
             .map(|i| traced.as_ref().and_then(|t| part_first_order(t.analysis.seq(), i)))
             .collect();
         let mut report = Report::project(bench, &findings, traced.as_ref(), &screens, failure);
         (report.vignetting_pending, report.sharpness_pending) = (vignetting_pending, sharpness_pending);
+        report_extras(bench, traced.as_ref(), &screens, &part_first_order, &mut report);
         Evaluation { bench: bench.clone(), findings, traced, screens, rail_fans, part_first_order, report }
     }
 
@@ -218,6 +223,30 @@ impl Evaluation {
     /// The compiled bench, when it can be traced.
     pub fn compiled(&self) -> Option<&Compiled> {
         self.traced.as_ref().map(|t| &t.compiled)
+    }
+}
+
+/// The report's figures that read the whole projected report beside the evaluation: the instrument
+/// figures and the eye part's (with its caution). After every projection of the report.
+fn report_extras(
+    bench: &Bench,
+    traced: Option<&Traced>,
+    screens: &[usize],
+    part_first_order: &[Option<FirstOrder>],
+    report: &mut Report,
+) {
+    if let Some(t) = traced
+        && let Ok(pupils) = t.analysis.pupils()
+    {
+        report.instrument = InstrumentFigures::of(bench, report, t.analysis.seq(), pupils, part_first_order);
+    }
+    if let Some(e) = eye_index(bench) {
+        let retina = traced.and_then(|t| match &t.analysis.spot {
+            Some(Ok(s)) => s.planes.get(retina_plane(bench, &t.compiled, screens)).copied(),
+            _ => None,
+        });
+        report.eye = EyeFigures::of(bench, e, report, retina.as_ref(), part_first_order[e].as_ref());
+        report.warnings.push(Warning { kind: WarningKind::Caution, part: None, field: None, message: EYE_CAUTION.into() });
     }
 }
 
@@ -277,6 +306,10 @@ fn trace(bench: &Bench, screens: &[usize], vignetting: bool) -> Result<Traced, S
             partial_planes.push(PartialPlane { surfaces, at_mm });
         }
     }
+    if let Some(e) = eye_index(bench) {
+        // The retina is the eye's screen, after every screen's plane.
+        planes_mm.push(bench.parts[e].end_mm());
+    }
     let request = Request {
         object: compiled.object,
         wavelengths_nm: bench.wavelengths_nm.clone(),
@@ -296,6 +329,17 @@ fn trace(bench: &Bench, screens: &[usize], vignetting: bool) -> Result<Traced, S
         traced.stray = crate::stray::StrayFigures::of(bench, &traced, screens);
     }
     Ok(traced)
+}
+
+/// The eye part, if the bench has one (validation allows one, as the last part).
+fn eye_index(bench: &Bench) -> Option<usize> {
+    bench.parts.iter().position(|p| matches!(p.kind, PartKind::Eye { .. }))
+}
+
+/// The index of the retina among the analysis's spot planes: after the screens in the final space.
+fn retina_plane(bench: &Bench, compiled: &Compiled, screens: &[usize]) -> usize {
+    let last_z = compiled.system.surfaces.last().map_or(0.0, |s| s.vertex_z_mm);
+    screens.iter().filter(|&&i| (bench.parts[i].at_mm - last_z) * compiled.final_direction >= 0.0).count()
 }
 
 /// The laser's beam through the sequence of its wavelength (which validation has made one of the bench's,

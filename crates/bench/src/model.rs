@@ -1,6 +1,7 @@
 //! The bench document: rail, object, wavelengths and parts, exactly as the bench file (format 1) spells
 //! them (DESIGN.md, "The bench file").
 
+use lumenrail_optics::eye::{EyeError, EyeState, SchematicEye};
 use serde::{Deserialize, Serialize};
 
 /// The newest bench file format this program reads and writes.
@@ -405,7 +406,65 @@ pub enum PartKind {
         /// Screen diameter, mm.
         diameter_mm: f64,
     },
+    /// A schematic eye, its corneal vertex at the part's position: the light meets its cornea, pupil and
+    /// lens, and its retina is its screen (`lumenrail_optics::eye`). It is the last part on the rail.
+    Eye {
+        /// Which published eye.
+        model: EyeModel,
+        /// The pupil's diameter, mm: a stop like any iris.
+        pupil_mm: f64,
+        /// The relaxed eye's refractive error: its far point's vergence at the cornea, dioptres (−3: a
+        /// myope whose far point lies 333 mm in front; +2: a hyperope). The axial length follows from it.
+        #[serde(default)]
+        refraction_d: f64,
+        /// How much the eye accommodates, dioptres (0: relaxed, focused on its far point).
+        #[serde(default)]
+        accommodation_d: f64,
+        /// The most it can accommodate, dioptres (left out: the schematic eye's full range; less for an
+        /// older eye).
+        #[serde(
+            default,
+            skip_serializing_if = "Option::is_none",
+            deserialize_with = "plain_some",
+            serialize_with = "plain"
+        )]
+        amplitude_d: Option<f64>,
+        /// The spectacle plane's distance in front of the cornea, mm, for the correcting lens the report
+        /// gives (left out: 12 mm, common practice).
+        #[serde(
+            default,
+            skip_serializing_if = "Option::is_none",
+            deserialize_with = "plain_some",
+            serialize_with = "plain"
+        )]
+        vertex_mm: Option<f64>,
+    },
 }
+
+/// A published schematic eye, as a bench file names it.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
+pub enum EyeModel {
+    /// Gullstrand's exact schematic eye (No. 1): six surfaces, relaxed and accommodated.
+    Gullstrand,
+    /// Emsley's reduced eye: one surface, n = 4/3, 60 D.
+    Reduced,
+}
+
+impl EyeModel {
+    /// The optics crate's eye.
+    pub fn schematic(self) -> SchematicEye {
+        match self {
+            EyeModel::Gullstrand => SchematicEye::GullstrandExact,
+            EyeModel::Reduced => SchematicEye::EmsleyReduced,
+        }
+    }
+}
+
+/// The spectacle plane's distance in front of the cornea when a bench gives none, mm (common practice).
+pub const DEFAULT_VERTEX_MM: f64 = 12.0;
+
+/// How wide an eye is drawn and counted on the rail, mm (an adult eye is about 24 mm across; from memory).
+pub const EYE_DIAMETER_MM: f64 = 24.0;
 
 impl SurfaceSpec {
     /// The same surface met from the other side: its radius negated.
@@ -462,6 +521,7 @@ impl PartKind {
             PartKind::Mirror { .. } => "mirror",
             PartKind::Iris { .. } => "iris",
             PartKind::Screen { .. } => "screen",
+            PartKind::Eye { .. } => "eye",
         }
     }
 
@@ -470,6 +530,7 @@ impl PartKind {
         match self {
             PartKind::Singlet { thickness_mm, .. } => *thickness_mm,
             PartKind::Doublet { thickness1_mm, thickness2_mm, .. } => thickness1_mm + thickness2_mm,
+            PartKind::Eye { .. } => self.eye_state().map_or_else(|_| self.eye_fallback_length_mm(), |e| e.retina_mm),
             _ => 0.0,
         }
     }
@@ -483,6 +544,36 @@ impl PartKind {
             | PartKind::Mirror { diameter_mm, .. }
             | PartKind::Iris { diameter_mm }
             | PartKind::Screen { diameter_mm } => *diameter_mm,
+            PartKind::Eye { .. } => EYE_DIAMETER_MM,
+        }
+    }
+
+    /// An eye part's state: its optics, retina and range (an error for another kind, or numbers the eye
+    /// cannot take; validation says which).
+    pub fn eye_state(&self) -> Result<EyeState, EyeError> {
+        match self {
+            PartKind::Eye { model, refraction_d, accommodation_d, amplitude_d, .. } => {
+                let e = EyeState::new(model.schematic(), *refraction_d, *accommodation_d)?;
+                match amplitude_d {
+                    Some(a) if *a < e.amplitude_d => {
+                        if *accommodation_d > *a + 1e-9 {
+                            return Err(EyeError::Accommodation { asked: *accommodation_d, amplitude: *a });
+                        }
+                        Ok(EyeState { amplitude_d: *a, ..e })
+                    }
+                    _ => Ok(e),
+                }
+            }
+            _ => Err(EyeError::NoRetina(f64::NAN)),
+        }
+    }
+
+    /// An eye's length when its numbers are refused: the emmetropic relaxed eye's (so that drawing and
+    /// layout checks still have a size).
+    fn eye_fallback_length_mm(&self) -> f64 {
+        match self {
+            PartKind::Eye { model, .. } => EyeState::new(model.schematic(), 0.0, 0.0).map_or(0.0, |e| e.retina_mm),
+            _ => 0.0,
         }
     }
 

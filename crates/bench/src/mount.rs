@@ -283,7 +283,9 @@ pub fn part_surfaces(part: &Part) -> Vec<(f64, SurfaceSpec)> {
             vec![(at, *front), (at + thickness1_mm, *middle), (at + thickness1_mm + thickness2_mm, *back)]
         }
         PartKind::Mirror { surface, .. } => vec![(at, *surface)],
-        PartKind::ThinLens { .. } | PartKind::Iris { .. } | PartKind::Screen { .. } => vec![(at, SurfaceSpec::Flat)],
+        PartKind::ThinLens { .. } | PartKind::Iris { .. } | PartKind::Screen { .. } | PartKind::Eye { .. } => {
+            vec![(at, SurfaceSpec::Flat)]
+        }
     }
 }
 

@@ -273,6 +273,12 @@ pub struct Report {
     pub wavefront: Vec<crate::sharpness::WavefrontFigures>,
     /// Polychromatic MTF of each object point: where it falls to 50 % and 10 %, contrast at 10–100 /mm.
     pub mtf: Vec<crate::sharpness::MtfFigures>,
+    /// What a viewer gets: magnifying power, magnification, exit pupil, field of view (null unless the
+    /// bench is afocal or forms an image for viewing).
+    pub instrument: Option<crate::instrument::InstrumentFigures>,
+    /// What the eye part gets: its retina's blur, whether it can focus, its correction (null without an
+    /// eye on the bench).
+    pub eye: Option<crate::eye::EyeFigures>,
     /// Each of the bench's aims: its target, the value reached, met or not.
     pub aims: Vec<crate::aims::AimStatus>,
     /// Everything that needs a look.
@@ -356,6 +362,8 @@ impl Report {
             stray: None,
             wavefront: Vec::new(),
             mtf: Vec::new(),
+            instrument: None,
+            eye: None,
             aims: Vec::new(),
             warnings: Vec::new(),
             trace_failure: failure,
@@ -737,6 +745,12 @@ impl Report {
                 mm(af.exit_pupil_diameter_mm),
                 mm(af.eye_relief_mm)
             );
+        }
+        if let Some(i) = &self.instrument {
+            i.write_text(&mut t);
+        }
+        if let Some(e) = &self.eye {
+            e.write_text(&mut t);
         }
         if !self.screens.is_empty() {
             let _ = writeln!(t, "\nScreens (on-axis point, primary wavelength)");

@@ -194,6 +194,92 @@ impl Checker<'_> {
                 self.surface(i, "surface", surface, semi);
             }
             PartKind::Iris { .. } | PartKind::Screen { .. } => {}
+            PartKind::Eye { pupil_mm, refraction_d, accommodation_d, amplitude_d, vertex_mm, .. } => {
+                self.eye(i, kind, *pupil_mm, *refraction_d, *accommodation_d, *amplitude_d, *vertex_mm)
+            }
+        }
+    }
+
+    /// An eye's numbers: pupil, refractive error, accommodation and its range, the spectacle plane.
+    #[allow(clippy::too_many_arguments)]
+    fn eye(
+        &mut self,
+        i: usize,
+        kind: &PartKind,
+        pupil_mm: f64,
+        refraction_d: f64,
+        accommodation_d: f64,
+        amplitude_d: Option<f64>,
+        vertex_mm: Option<f64>,
+    ) {
+        let who = self.who(i);
+        if !(pupil_mm.is_finite() && EYE_PUPIL_RANGE_MM.contains(&pupil_mm)) {
+            self.error(
+                Some(i),
+                "pupil_mm",
+                format!(
+                    "{who}: a pupil of {pupil_mm} mm is outside the {} to {} mm an eye's pupil spans",
+                    EYE_PUPIL_RANGE_MM.start(),
+                    EYE_PUPIL_RANGE_MM.end()
+                ),
+            );
+        }
+        if !(refraction_d.is_finite() && refraction_d.abs() <= MAX_REFRACTION_D) {
+            self.error(
+                Some(i),
+                "refraction_d",
+                format!("{who}: a refractive error of {refraction_d} D is outside ±{MAX_REFRACTION_D} D"),
+            );
+            return;
+        }
+        if let Some(a) = amplitude_d
+            && !(a.is_finite() && a >= 0.0)
+        {
+            self.error(Some(i), "amplitude_d", format!("{who}: the accommodation range {a} D must be 0 or more"));
+            return;
+        }
+        if let Some(d) = vertex_mm
+            && !(d.is_finite() && (0.0..=MAX_VERTEX_MM).contains(&d))
+        {
+            self.error(
+                Some(i),
+                "vertex_mm",
+                format!("{who}: a spectacle plane {d} mm in front of the eye is outside 0 to {MAX_VERTEX_MM} mm"),
+            );
+        }
+        if !accommodation_d.is_finite() {
+            self.error(
+                Some(i),
+                "accommodation_d",
+                format!("{who}: accommodation {accommodation_d} D must be a number"),
+            );
+            return;
+        }
+        match kind.eye_state() {
+            Ok(e) => {
+                if let Some(a) = amplitude_d
+                    && a > e.amplitude_d + 1e-9
+                {
+                    self.error(
+                        Some(i),
+                        "amplitude_d",
+                        format!(
+                            "{who}: an accommodation range of {a} D is more than this eye's {:.2} D",
+                            e.amplitude_d
+                        ),
+                    );
+                }
+            }
+            Err(lumenrail_optics::eye::EyeError::NoRetina(_)) => self.error(
+                Some(i),
+                "refraction_d",
+                format!("{who}: a refractive error of {refraction_d} D leaves no room for a retina"),
+            ),
+            Err(lumenrail_optics::eye::EyeError::Accommodation { asked, amplitude }) => self.error(
+                Some(i),
+                "accommodation_d",
+                format!("{who}: accommodation of {asked} D is outside this eye's range, 0 to {amplitude:.2} D"),
+            ),
         }
     }
 
@@ -205,9 +291,41 @@ impl Checker<'_> {
             PartKind::Singlet { front, back, .. } => (sag(front), sag(back)),
             PartKind::Doublet { front, back, .. } => (sag(front), sag(back)),
             PartKind::Mirror { surface, .. } => (sag(surface), sag(surface)),
+            PartKind::Eye { .. } => (0.0, 0.0),
             _ => return None,
         };
         Some((p.at_mm + front.min(0.0), p.end_mm() + back.max(0.0)))
+    }
+}
+
+/// The narrowest and widest eye pupils accepted, mm (a human pupil spans about 2 to 8 mm; from memory).
+pub const EYE_PUPIL_RANGE_MM: std::ops::RangeInclusive<f64> = 1.0..=9.0;
+
+/// The largest refractive error accepted, dioptres either way.
+pub const MAX_REFRACTION_D: f64 = 20.0;
+
+/// The farthest spectacle plane accepted in front of the cornea, mm.
+pub const MAX_VERTEX_MM: f64 = 30.0;
+
+/// An eye looks along the rail: it is the one eye and the last part (its retina ends the light path).
+fn eyes(c: &mut Checker, bench: &Bench) {
+    let eyes: Vec<usize> =
+        (0..bench.parts.len()).filter(|&i| matches!(bench.parts[i].kind, PartKind::Eye { .. })).collect();
+    if let Some(&second) = eyes.get(1) {
+        c.error(Some(second), "kind", format!("{} is a second eye; a bench holds one", c.who(second)));
+        return;
+    }
+    let Some(&e) = eyes.first() else { return };
+    let at = bench.parts[e].at_mm;
+    if let Some(j) = (0..bench.parts.len()).find(|&j| j != e && bench.parts[j].at_mm >= at) {
+        let msg = format!(
+            "{} at {} mm stands at or behind {}'s cornea ({} mm); the eye must be the last part on the rail",
+            c.who(j),
+            bench.parts[j].at_mm,
+            c.who(e),
+            at
+        );
+        c.error(Some(j), "at_mm", msg);
     }
 }
 
@@ -372,6 +490,7 @@ pub fn validate(bench: &Bench) -> Vec<Finding> {
             );
         }
     }
+    eyes(&mut c, bench);
     if c.findings.iter().any(|f| f.severity == Severity::Error) {
         return c.findings;
     }

@@ -133,7 +133,7 @@ fn traced_focal_mm(part: &PartKind, nm: f64) -> Option<f64> {
         ],
         PartKind::Mirror { surface, .. } => vec![(curvature(surface), -1.0, 0.0)],
         PartKind::ThinLens { focal_mm, .. } => return Some(*focal_mm),
-        PartKind::Iris { .. } | PartKind::Screen { .. } => return None,
+        PartKind::Iris { .. } | PartKind::Screen { .. } | PartKind::Eye { .. } => return None,
     };
     let (mut y, mut nu, mut n) = (1.0_f64, 0.0_f64, 1.0_f64);
     for (c, n_after, t) in surfaces {

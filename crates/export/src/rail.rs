@@ -215,6 +215,17 @@ pub fn rail_svg_sized(evaluation: &Evaluation, scene: &Scene, size: (f64, f64)) 
                     );
                 }
             }
+            PartKind::Eye { .. } => {
+                for poly in eye_outline(p) {
+                    g = g.add(
+                        Polyline::new()
+                            .set("points", map.points(poly))
+                            .set("fill", "none")
+                            .set("stroke", edge)
+                            .set("stroke-width", 1.5),
+                    );
+                }
+            }
             PartKind::Screen { .. } => {
                 g = g.add(
                     Rect::new()
@@ -250,6 +261,50 @@ pub fn rail_svg_sized(evaluation: &Evaluation, scene: &Scene, size: (f64, f64)) 
     }
     doc = doc.add(marks);
     doc.to_string()
+}
+
+/// An eye's side view, rail coordinates: the globe (an ellipse through the corneal vertex and the retina),
+/// the cornea's front arc, the lens's front and back arcs (semi-diameter 4.5 mm, about a lens's; from
+/// memory) and the pupil's edges.
+pub fn eye_outline(p: &lumenrail_bench::model::Part) -> Vec<Vec<(f64, f64)>> {
+    let Ok(state) = p.kind.eye_state() else { return Vec::new() };
+    let length = state.retina_mm;
+    let half_height = 0.5 * lumenrail_bench::model::EYE_DIAMETER_MM;
+    let centre = p.at_mm + 0.5 * length;
+    let globe = (0..=48)
+        .map(|k| {
+            let a = std::f64::consts::TAU * k as f64 / 48.0;
+            (centre - 0.5 * length * a.cos(), half_height * a.sin())
+        })
+        .collect();
+    let arc = |at: f64, c: f64, semi: f64| -> Vec<(f64, f64)> {
+        (0..=16)
+            .map(|k| {
+                let y = semi * (1.0 - k as f64 / 8.0);
+                let sag = if c == 0.0 {
+                    0.0
+                } else {
+                    lumenrail_optics::system::Shape::sphere(1.0 / c).sag_mm(y.abs()).unwrap_or(0.0)
+                };
+                (p.at_mm + at + sag, y)
+            })
+            .collect()
+    };
+    let surfaces = &state.optics.surfaces;
+    let mut out = vec![globe];
+    if let Some(s) = surfaces.first() {
+        out.push(arc(s.at_mm, s.curvature_per_mm, 5.5));
+    }
+    if surfaces.len() >= 6 {
+        out.push(arc(surfaces[2].at_mm, surfaces[2].curvature_per_mm, 4.5));
+        out.push(arc(surfaces[5].at_mm, surfaces[5].curvature_per_mm, 4.5));
+    }
+    if let lumenrail_bench::model::PartKind::Eye { pupil_mm, .. } = p.kind {
+        let z = p.at_mm + state.optics.pupil_at_mm;
+        out.push(vec![(z, 0.5 * pupil_mm), (z, 6.0)]);
+        out.push(vec![(z, -0.5 * pupil_mm), (z, -6.0)]);
+    }
+    out
 }
 
 fn glass(map: &Map, poly: Vec<(f64, f64)>, edge: &str) -> Polygon {

@@ -41,6 +41,7 @@ pub mod analysis;
 pub mod batch;
 pub mod beam;
 pub mod diffraction;
+pub mod eye;
 pub mod field;
 pub mod library;
 pub mod material;

@@ -557,6 +557,12 @@ fn part_ui(
             painter.line_segment([f.at(part.at_mm, -o), f.at(part.at_mm, -outer)], Stroke::new(4.0, edge));
             hit = Rect::from_two_pos(f.at(part.at_mm, outer), f.at(part.at_mm, -outer)).expand2(vec2(6.0, 0.0));
         }
+        PartKind::Eye { .. } => {
+            for poly in lumenrail_export::rail::eye_outline(&part) {
+                let pts: Vec<Pos2> = poly.into_iter().map(|(z, y)| f.at(z, y)).collect();
+                painter.add(Shape::line(pts, Stroke::new(1.5, edge)));
+            }
+        }
         PartKind::Screen { .. } => {
             let r = Rect::from_two_pos(top - vec2(2.0, 0.0), f.at(part.at_mm, -semi) + vec2(2.0, 0.0));
             painter.rect_filled(r, 1.0, Color32::from_rgba_unmultiplied(230, 230, 230, 120));

@@ -78,6 +78,21 @@ impl Workbench {
                 mm(af.eye_relief_mm)
             ));
         }
+        // Instrument figures and the eye: the report's own lines (one source for the text and the readout).
+        let mut lines = String::new();
+        if let Some(i) = &r.instrument {
+            i.write_text(&mut lines);
+        }
+        if let Some(e) = &r.eye {
+            e.write_text(&mut lines);
+        }
+        for line in lines.lines().filter(|l| !l.trim().is_empty()) {
+            if line.starts_with(' ') {
+                ui.label(line.trim());
+            } else {
+                ui.strong(line);
+            }
+        }
         let ab = &r.aberrations;
         if let (Some(nw), Some(airy)) = (ab.working_f_number, ab.airy_radius_um) {
             ui.label(format!("Working f-number {nw:.2}, Airy radius {airy:.2} µm"));

@@ -60,6 +60,13 @@ fn fields(kind: &PartKind) -> Vec<(&'static str, &'static str)> {
         PartKind::Mirror { .. } => vec![("surface", "radius (mm or flat)"), ("diameter_mm", "diameter (mm)")],
         PartKind::Iris { .. } => vec![("diameter_mm", "opening diameter (mm)")],
         PartKind::Screen { .. } => vec![("diameter_mm", "diameter (mm)")],
+        PartKind::Eye { .. } => vec![
+            ("pupil_mm", "pupil diameter (mm)"),
+            ("refraction_d", "refractive error (D; negative: myopic)"),
+            ("accommodation_d", "accommodation (D)"),
+            ("amplitude_d", "accommodation range (D, blank: the eye's full)"),
+            ("vertex_mm", "spectacle plane (mm before the cornea, blank: 12)"),
+        ],
     });
     let glass_fields = |m: &MaterialSpec, index: &'static str, nd: &'static str, vd: &'static str| match m {
         MaterialSpec::Index(_) => vec![(index, "refractive index")],
@@ -132,6 +139,11 @@ fn field_text(p: &Part, key: &str) -> String {
         (PartKind::Doublet { thickness1_mm, .. }, "thickness1_mm") => number(*thickness1_mm),
         (PartKind::Doublet { thickness2_mm, .. }, "thickness2_mm") => number(*thickness2_mm),
         (PartKind::Mirror { surface, .. }, "surface") => surface_text(surface),
+        (PartKind::Eye { pupil_mm, .. }, "pupil_mm") => number(*pupil_mm),
+        (PartKind::Eye { refraction_d, .. }, "refraction_d") => number(*refraction_d),
+        (PartKind::Eye { accommodation_d, .. }, "accommodation_d") => number(*accommodation_d),
+        (PartKind::Eye { amplitude_d, .. }, "amplitude_d") => amplitude_d.map_or_else(String::new, number),
+        (PartKind::Eye { vertex_mm, .. }, "vertex_mm") => vertex_mm.map_or_else(String::new, number),
         (k, "n1") => glass_text(glass(k, 1), 'n'),
         (k, "nd1") => glass_text(glass(k, 1), 'd'),
         (k, "vd1") => glass_text(glass(k, 1), 'v'),
@@ -187,6 +199,21 @@ fn part_from(old: &Part, texts: &BTreeMap<&'static str, String>) -> Result<Part,
     p.at_mm = num("at_mm", "position")?;
     let carrier = get("carrier_mm");
     p.carrier_mm = if carrier.trim().is_empty() { None } else { Some(num("carrier_mm", "carrier width")?) };
+    let optional = |k: &'static str, label: &str| -> Result<Option<f64>, (&'static str, String)> {
+        let t = get(k);
+        if t.trim().is_empty() { Ok(None) } else { parse_number(&t, label).map(Some).map_err(|e| (k, e)) }
+    };
+    if let PartKind::Eye { model, .. } = &old.kind {
+        p.kind = PartKind::Eye {
+            model: *model,
+            pupil_mm: num("pupil_mm", "pupil diameter")?,
+            refraction_d: num("refraction_d", "refractive error")?,
+            accommodation_d: num("accommodation_d", "accommodation")?,
+            amplitude_d: optional("amplitude_d", "accommodation range")?,
+            vertex_mm: optional("vertex_mm", "spectacle plane")?,
+        };
+        return Ok(p);
+    }
     let d = num("diameter_mm", "diameter")?;
     p.kind = match &old.kind {
         PartKind::ThinLens { .. } => PartKind::ThinLens { focal_mm: num("focal_mm", "focal length")?, diameter_mm: d },
@@ -212,6 +239,7 @@ fn part_from(old: &Part, texts: &BTreeMap<&'static str, String>) -> Result<Part,
         }
         PartKind::Iris { .. } => PartKind::Iris { diameter_mm: d },
         PartKind::Screen { .. } => PartKind::Screen { diameter_mm: d },
+        PartKind::Eye { .. } => old.kind.clone(),
     };
     let faces = p.kind.surface_count();
     if faces > 0 {
