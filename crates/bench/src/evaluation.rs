@@ -17,8 +17,8 @@ use crate::eye::{EYE_CAUTION, EyeFigures};
 use crate::instrument::InstrumentFigures;
 use crate::model::{Bench, Laser, PartKind};
 use crate::report::Report;
-use crate::sharpness::Sharpness;
 use crate::report::{Warning, WarningKind};
+use crate::sharpness::Sharpness;
 use crate::validate::{Finding, Severity, validate};
 use lumenrail_optics::analysis::{Analysis, PartialPlane, Request, Vignetting, analyse};
 use lumenrail_optics::beam::{BeamTrace, LaserSource};
@@ -246,7 +246,12 @@ fn report_extras(
             _ => None,
         });
         report.eye = EyeFigures::of(bench, e, report, retina.as_ref(), part_first_order[e].as_ref());
-        report.warnings.push(Warning { kind: WarningKind::Caution, part: None, field: None, message: EYE_CAUTION.into() });
+        report.warnings.push(Warning {
+            kind: WarningKind::Caution,
+            part: None,
+            field: None,
+            message: EYE_CAUTION.into(),
+        });
     }
 }
 

@@ -235,15 +235,16 @@ fn arriving_vergence(bench: &Bench, report: &Report, cornea: f64) -> f64 {
     at.filter(|z| (z - cornea).abs() > 0.0).map_or(0.0, |z| 1000.0 / (z - cornea))
 }
 
-/// A corrector from the drawer: the item whose power at the eye's spectacle plane is nearest the wanted
-/// one, if within `within_d` dioptres (its label and power).
-pub fn nearest_corrector(drawer: &Drawer, wanted_d: f64, within_d: f64) -> Option<(String, f64)> {
+/// A corrector from the drawer: the item whose power is nearest the wanted one, if within `within_d`
+/// dioptres (its index in the drawer and its power at 587.6 nm, dioptres).
+pub fn nearest_corrector(drawer: &Drawer, wanted_d: f64, within_d: f64) -> Option<(usize, f64)> {
     drawer
         .items
         .iter()
-        .filter_map(|item| {
+        .enumerate()
+        .filter_map(|(k, item)| {
             let f = crate::drawer::first_order_alone(&item.part, lumenrail_optics::material::D_LINE_NM)?.efl_mm?;
-            Some((item.label.clone(), 1000.0 / f))
+            Some((k, 1000.0 / f))
         })
         .filter(|(_, p)| (p - wanted_d).abs() <= within_d)
         .min_by(|a, b| (a.1 - wanted_d).abs().total_cmp(&(b.1 - wanted_d).abs()))

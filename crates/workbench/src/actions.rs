@@ -27,6 +27,8 @@ pub enum Action {
     ExportPngByPath,
     /// Export the rail drawing as SVG by a typed path.
     ExportDrawingByPath,
+    /// Write a lab sheet and its answer key as PDF by a typed path.
+    LabSheetByPath,
     /// Undo the last edit.
     Undo,
     /// Redo the last undone edit.
@@ -154,6 +156,7 @@ pub const ACTIONS: &[ActionInfo] = &[
     entry(Action::ExportCsvByPath, Menu::File, "Export view CSV by path…", &[]),
     entry(Action::ExportPngByPath, Menu::File, "Export view PNG by path…", &[]),
     entry(Action::ExportDrawingByPath, Menu::File, "Export drawing (SVG, PNG or text) by path…", &[]),
+    entry(Action::LabSheetByPath, Menu::File, "Lab sheet and answer key (PDF) by path…", &[]),
     entry(Action::Undo, Menu::Edit, "Undo", &[Shortcut::ctrl(Key::Z)]),
     entry(Action::Redo, Menu::Edit, "Redo", &[Shortcut::ctrl_shift(Key::Z), Shortcut::ctrl(Key::Y)]),
     entry(Action::DuplicatePart, Menu::Edit, "Duplicate part", &[]),
@@ -265,6 +268,12 @@ impl Workbench {
                 let dir = self.path.as_ref().and_then(|p| p.parent()).map(std::path::Path::to_path_buf);
                 let name = dir.unwrap_or_default().join("bench-rail.svg");
                 self.path_prompt = Some((PathPrompt::Drawing, name.display().to_string()));
+            }
+            Action::LabSheetByPath => {
+                let dir = self.path.as_ref().and_then(|p| p.parent()).map(std::path::Path::to_path_buf);
+                let name = dir.unwrap_or_default().join("lab-sheet.pdf");
+                let prompt = PathPrompt::LabSheet(self.lab_choice.0, self.lab_choice.1);
+                self.path_prompt = Some((prompt, name.display().to_string()));
             }
             Action::Undo => self.undo(),
             Action::Redo => self.redo(),

@@ -81,6 +81,11 @@ impl Workbench {
                     ("Export mount sheet", "Path of the mount sheet (.csv, .svg or .dxf):", "Export")
                 }
                 PathPrompt::SaveDrawer => ("Save drawer as", "Path of the .drawer.ron file:", "Save"),
+                PathPrompt::LabSheet(..) => (
+                    "Lab sheet",
+                    "Path of the class's PDF (the answer key goes beside it, ending -answers.pdf):",
+                    "Write",
+                ),
                 PathPrompt::Drawing => {
                     ("Export drawing", "Path of the drawing (.svg or .png; .txt for the readout):", "Export")
                 }
@@ -92,6 +97,19 @@ impl Workbench {
                 let label = ui.label(what);
                 let r = ui.text_edit_singleline(text).labelled_by(label.id);
                 go = r.lost_focus() && ui.input(|i| i.key_pressed(egui::Key::Enter));
+                if let PathPrompt::LabSheet(lab, paper) = kind {
+                    ui.horizontal(|ui| {
+                        ui.label("Lab:");
+                        for l in lumenrail_bench::lab::Lab::ALL {
+                            ui.radio_value(lab, l, l.word());
+                        }
+                    });
+                    ui.horizontal(|ui| {
+                        ui.label("Paper:");
+                        ui.radio_value(paper, lumenrail_export::lab::Paper::A4, "A4");
+                        ui.radio_value(paper, lumenrail_export::lab::Paper::Letter, "Letter");
+                    });
+                }
                 if drawing {
                     ui.horizontal(|ui| {
                         let l = ui.label("Size (width x height, pixels for PNG):");
@@ -124,6 +142,7 @@ impl Workbench {
                     PathPrompt::Drawing => self.export_drawing(&path),
                     PathPrompt::OpenDrawer => self.open_drawer(path),
                     PathPrompt::MountSheet => self.export_mount_sheet(&path),
+                    PathPrompt::LabSheet(lab, paper) => self.write_lab_sheet(lab, paper, &path),
                     PathPrompt::SaveDrawer => self.save_drawer(path),
                 };
             }

@@ -113,6 +113,7 @@ impl Workbench {
             show_keys: false,
             path_prompt: None,
             drawing_size: "1200x520".into(),
+            lab_choice: (lumenrail_bench::lab::Lab::Displacement, lumenrail_export::lab::Paper::A4),
             drawer: crate::drawer::DrawerPanel::default(),
             arranger: crate::arranger::ArrangerPanel::default(),
             left: crate::LeftPage::default(),

@@ -15,6 +15,7 @@ pub mod disk;
 mod document;
 pub mod drawer;
 pub mod guard;
+mod lab;
 mod menus;
 pub mod mount;
 pub mod plots;
@@ -82,6 +83,8 @@ pub struct Workbench {
     pub tolerance: tolerance::ToleranceWindow,
     /// The size the drawing export lays the rail out for, `WIDTHxHEIGHT` (pixels for PNG, points for SVG).
     pub(crate) drawing_size: String,
+    /// The lab and paper the lab sheet prompt last used.
+    pub(crate) lab_choice: (lumenrail_bench::lab::Lab, lumenrail_export::lab::Paper),
     /// Counts changes to the bench, so that a frame can tell whether it changed while being drawn.
     revision: u64,
     /// Recently opened or saved files, newest first (kept by the window's settings).
@@ -129,6 +132,8 @@ pub(crate) enum PathPrompt {
     SaveDrawer,
     /// Export the mount sheet (CSV, SVG or DXF by the name).
     MountSheet,
+    /// Write a lab sheet (and its answer key beside it) for this lab on this paper.
+    LabSheet(lumenrail_bench::lab::Lab, lumenrail_export::lab::Paper),
 }
 
 /// The pages of the left panel.

@@ -36,6 +36,7 @@ impl Workbench {
                 self.action_button(ui, Action::ExportCsvByPath);
                 self.action_button(ui, Action::ExportPngByPath);
                 self.action_button(ui, Action::ExportDrawingByPath);
+                self.action_button(ui, Action::LabSheetByPath);
             });
             ui.menu_button("Edit", |ui| {
                 self.action_button(ui, Action::Undo);

@@ -366,6 +366,9 @@ pub(crate) fn sheet_ui(wb: &mut Workbench, ui: &mut egui::Ui) {
     }
     material_ui(wb, ui, index);
     own_figures_ui(wb, ui, index);
+    if matches!(part.kind, PartKind::Eye { .. }) {
+        corrector_ui(wb, ui, &part);
+    }
     ui.horizontal(|ui| {
         if matches!(part.kind, PartKind::Singlet { .. } | PartKind::Doublet { .. }) && ui.button("Flip lens").clicked()
         {
@@ -448,6 +451,32 @@ fn material_ui(wb: &mut Workbench, ui: &mut egui::Ui, index: usize) {
             match refusal(wb, index, &p) {
                 Some((_, msg)) => wb.status = msg,
                 None => wb.apply(Edit::Replace { index, part: p }, None),
+            }
+        }
+    }
+}
+
+/// For an eye: place the drawer's lens nearest the correcting spectacle power at the spectacle plane.
+fn corrector_ui(wb: &mut Workbench, ui: &mut egui::Ui, eye: &Part) {
+    let Some(fig) = wb.evaluation.report.eye.clone() else { return };
+    let Some(power) = fig.spectacle_power_d else { return };
+    let tip = format!(
+        "the drawer's lens nearest {} D (within {} D), {} mm before the cornea",
+        lumenrail_bench::report::fixed(power, 2),
+        lumenrail_bench::eye::FOCUS_TOLERANCE_D,
+        lumenrail_bench::report::fixed(fig.vertex_mm, 1)
+    );
+    if ui.button("Place corrector from the drawer").on_hover_text(tip).clicked() {
+        let found =
+            lumenrail_bench::eye::nearest_corrector(&wb.drawer.drawer, power, lumenrail_bench::eye::FOCUS_TOLERANCE_D);
+        match found {
+            Some((k, _)) => wb.place_from_drawer(k, eye.at_mm - fig.vertex_mm),
+            None => {
+                wb.status = format!(
+                    "no lens in the drawer lies within {} D of the {} D this eye needs",
+                    lumenrail_bench::eye::FOCUS_TOLERANCE_D,
+                    lumenrail_bench::report::fixed(power, 2)
+                )
             }
         }
     }
