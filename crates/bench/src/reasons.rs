@@ -73,6 +73,20 @@ fn why_null(r: &Report, path: &[String], key: &str, siblings: &Map<String, Value
         (_, "intercepted_by") => s("no part intercepts the light before this image forms"),
         (_, "after_part") => s("the waist lies in the laser's own beam, before any part"),
         (_, "power_mw") => s("the laser's power is not given"),
+        (_, "eye") => s("no eye part on the bench"),
+        (_, "instrument") => s("the bench is neither afocal nor forms an image for viewing: no instrument figures"),
+        ("eye", "near_point_mm") => s("the eye cannot accommodate (no amplitude), so its near point is its far point"),
+        ("eye", "near_spectacle_power_d") => s("the object is not near: no reading lens is needed"),
+        ("instrument", "angular_magnification" | "magnifying_power_as_arranged") => {
+            s("the bench is not an afocal telescope, or its final image is not at infinity")
+        }
+        ("instrument", "field_of_view" | "real_field_mm") => {
+            s("no field stop found: nothing limits the chief ray, so the field is not bounded by the bench")
+        }
+        ("instrument", "magnifying_power_relaxed" | "magnifying_power_near_point") => {
+            s("not a single magnifier: these figures are for one lens held before the eye")
+        }
+        ("instrument", _) => s("not a microscope: no objective and eyepiece pair to name"),
         ("beam", "peak_irradiance_w_per_cm2") => s("the laser's power is not given, so no irradiance"),
         ("warnings", "part") => s("this warning is about the whole bench, not one part"),
         ("field", "lateral_colour_mm") => s("one wavelength only: lateral colour needs two or more"),
