@@ -389,7 +389,7 @@ impl Report {
             if let (Some(laser), Some(beam)) = (&bench.laser, &t.beam) {
                 report.fill_beam(bench, laser, &t.compiled, beam, screens);
             }
-            report.fill_stray(bench, t, screens);
+            report.fill_stray(t);
             if let Some(s) = &t.sharpness {
                 report.wavefront = s.wavefront_figures();
                 report.mtf = s.mtf_figures();
@@ -423,7 +423,7 @@ impl Report {
     }
 
     /// The stray-focus map and its warnings.
-    fn fill_stray(&mut self, _bench: &Bench, traced: &Traced, _screens: &[usize]) {
+    fn fill_stray(&mut self, traced: &Traced) {
         let Some(map) = traced.stray.clone() else { return };
         for (part, message) in map.warnings() {
             self.warnings.push(Warning::new(WarningKind::StrayFocus, part.as_deref(), message));
