@@ -151,6 +151,13 @@ enum Command {
     },
     /// List the built-in materials with their published sources.
     Materials,
+    /// Add Lumenrail to the desktop's application menu: writes the desktop entry (starting this program)
+    /// and the icon under the XDG data folder (`~/.local/share`), or under `--data-home`.
+    InstallDesktop {
+        /// The data folder to write under, instead of `$XDG_DATA_HOME` or `~/.local/share`.
+        #[arg(long, value_name = "DIR")]
+        data_home: Option<PathBuf>,
+    },
     /// Write one analysis view of a bench as a CSV table and/or a PNG picture (drawn without a window), or
     /// the rail drawing as SVG (`--view rail --svg OUT.svg`, with `--text OUT.txt` for the readout's text).
     Export {
@@ -244,11 +251,40 @@ fn main() -> ExitCode {
         Some(Command::LabSheet { file, lab, pdf, answers, paper }) => {
             lab_sheet(&file, &lab, &pdf, answers.as_deref(), &paper)
         }
+        Some(Command::InstallDesktop { data_home }) => install_desktop(data_home),
         Some(Command::Materials) => {
             for e in library::entries() {
                 println!("{:<18} {}\n{:<18} source: {}", e.name, e.description, "", e.source);
             }
             ExitCode::SUCCESS
+        }
+    }
+}
+
+fn install_desktop(data_home: Option<PathBuf>) -> ExitCode {
+    use lumenrail_export::icon;
+    let Some(home) = data_home.or_else(icon::data_home) else {
+        eprintln!("error: neither XDG_DATA_HOME nor HOME is set; give the folder with --data-home DIR");
+        return ExitCode::FAILURE;
+    };
+    let program = match std::env::current_exe() {
+        Ok(p) => p,
+        Err(e) => {
+            eprintln!("error: cannot tell where this program is: {e}");
+            return ExitCode::FAILURE;
+        }
+    };
+    match icon::install(&home, &program) {
+        Ok(done) => {
+            println!("wrote {}", done.entry.display());
+            println!("wrote {}", done.svg.display());
+            println!("wrote {}", done.png.display());
+            println!("Lumenrail is in the application menu once the desktop rereads it (log out and in if not).");
+            ExitCode::SUCCESS
+        }
+        Err(e) => {
+            eprintln!("error: {e}");
+            ExitCode::FAILURE
         }
     }
 }

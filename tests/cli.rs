@@ -625,3 +625,36 @@ fn tolerance_prints_the_run_and_its_json() {
         stderr(&o)
     );
 }
+
+/// `lumenrail install-desktop` writes an entry that the freedesktop.org validator accepts (desktop-file-utils'
+/// `desktop-file-validate`, an independent reader; CI installs it, and where it is missing only the
+/// structure is checked here) and icons that decode as what they claim to be.
+#[test]
+fn install_desktop_writes_a_valid_entry_and_the_icon() {
+    let home = scratch("xdg-data");
+    let out = run(&["install-desktop", "--data-home", home.to_str().unwrap()]);
+    assert!(out.status.success(), "{}", stderr(&out));
+    let entry = home.join("applications/lumenrail.desktop");
+    let text = std::fs::read_to_string(&entry).unwrap();
+    let exe = Path::new(env!("CARGO_BIN_EXE_lumenrail"));
+    assert!(text.contains(&format!("\nExec=\"{}\" %f\n", exe.display())), "{text}");
+    assert!(text.contains("\nIcon=lumenrail\n") && text.contains("\nType=Application\n"), "{text}");
+    match Command::new("desktop-file-validate").arg(&entry).output() {
+        Ok(v) => assert!(
+            v.status.success() && v.stdout.is_empty(),
+            "desktop-file-validate: {}{}",
+            String::from_utf8_lossy(&v.stdout),
+            stderr(&v)
+        ),
+        Err(_) => assert!(std::env::var_os("CI").is_none(), "CI must have desktop-file-validate (desktop-file-utils)"),
+    }
+    let png = image::open(home.join("icons/hicolor/256x256/apps/lumenrail.png")).unwrap();
+    assert_eq!((png.width(), png.height()), (256, 256));
+    let svg = std::fs::read_to_string(home.join("icons/hicolor/scalable/apps/lumenrail.svg")).unwrap();
+    assert!(svg.contains("<svg") && svg.contains("viewBox=\"0 0 256 256\""));
+    // A data folder that cannot be made is a clear error, not a panic.
+    let blocked = write("not-a-folder", "a file where the folder would go");
+    let out = run(&["install-desktop", "--data-home", blocked.to_str().unwrap()]);
+    assert_eq!(out.status.code(), Some(1));
+    assert!(stderr(&out).contains("cannot make the folder"), "{}", stderr(&out));
+}

@@ -9,6 +9,7 @@
 pub mod colour;
 pub mod csv;
 pub mod date;
+pub mod icon;
 pub mod lab;
 pub mod mount;
 pub mod picture;

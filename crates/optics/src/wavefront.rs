@@ -28,7 +28,7 @@ use crate::quadrature::pupil_rings;
 use crate::sampling::SkewAimer;
 use crate::skew::{self, SkewRay};
 use crate::skew_batch::{SkewBatch, trace_skew_batch};
-use crate::system::Sequence;
+use crate::system::{Kind, Sequence};
 use crate::trace::RayError;
 
 /// Zernike terms fitted (Noll 1 to 22: through secondary spherical aberration).
@@ -191,7 +191,13 @@ fn dot(a: [f64; 3], b: [f64; 3]) -> f64 {
 
 /// Aims and traces rays at the pupil points `points` (each pulled a hair inside the stop), in order:
 /// `None` where a ray cannot be aimed or is blocked.
-fn trace_points(seq: &Sequence, aimer: &SkewAimer, stop_semi_mm: f64, points: &[(f64, f64)]) -> Vec<Option<SkewRay>> {
+fn trace_points(
+    seq: &Sequence,
+    conjugates: &[IdealConjugate],
+    aimer: &SkewAimer,
+    stop_semi_mm: f64,
+    points: &[(f64, f64)],
+) -> Vec<Option<SkewRay>> {
     let mut batch = SkewBatch::with_capacity(points.len());
     let mut slot = Vec::with_capacity(points.len());
     let mut near: Option<([f64; 2], (f64, f64))> = None;
@@ -206,8 +212,103 @@ fn trace_points(seq: &Sequence, aimer: &SkewAimer, stop_semi_mm: f64, points: &[
             Err(_) => slot.push(None),
         }
     }
+    let launched = batch.clone();
     trace_skew_batch(seq, &mut batch);
-    slot.into_iter().map(|s| s.and_then(|i| batch.outcome(i).ok())).collect()
+    let mut rays: Vec<Option<SkewRay>> = slot.iter().map(|s| s.and_then(|i| batch.outcome(i).ok())).collect();
+    for lens in conjugates {
+        let mut at_lens = launched.clone();
+        trace_skew_batch(&seq.prefix(lens.step + 1), &mut at_lens);
+        for (ray, s) in rays.iter_mut().zip(&slot) {
+            if let (Some(ray), Some(i)) = (ray.as_mut(), s) {
+                ray.opl_mm += at_lens.outcome(*i).map_or(0.0, |r| lens.correction_mm(seq, &r));
+            }
+        }
+    }
+    rays
+}
+
+/// An ideal thin lens of the sequence and the paraxial object it images: the image of the bench's object
+/// formed by the surfaces before it.
+///
+/// The traced path through an ideal lens (`trace::ideal_lens_path`) is that of a lens perfect for a plane
+/// wave along the axis: any other conjugate would show a wavefront error the lens does not have (an ideal
+/// lens images every point perfectly). For the wavefront, each ray's path through the lens is put right for
+/// the conjugates the lens is used at: with O the lens's centre, Q where the ray meets it, P the object
+/// point on the incoming ray and P′ its image on the outgoing ray (the lens maps the ray's direction
+/// tangents by t′ = t − Q/f, so P′ is P's paraxial image), the added path is
+/// Δ = n σ(|PO| − |PQ|) + n σ′(|OP′| − |QP′|), which makes every path from P to P′ the chief path through O
+/// (Fermat's principle for a perfect image). Each difference is taken as (|PO|² − |PQ|²)/(|PO| + |PQ|) =
+/// (2P·Q − ρ²)/(…), so no digits are lost when P is far; at infinity it becomes −d·Q (d the unit
+/// direction), the plane wave's path. σ, σ′ = ±1 for a real or virtual object and image.
+#[derive(Debug, Clone, Copy, PartialEq)]
+struct IdealConjugate {
+    /// The lens's step.
+    step: usize,
+    /// The paraxial object's distance from the lens along the light's travel, mm (negative: real, in front
+    /// of it); `None` at infinity.
+    object_mm: Option<f64>,
+}
+
+/// Beyond this distance from a lens, mm, its object or image is taken to be at infinity.
+const FAR_MM: f64 = 1e12;
+
+/// Every ideal lens of `seq` with its paraxial object for the bench's `object`.
+fn ideal_conjugates(seq: &Sequence, object: Object) -> Vec<IdealConjugate> {
+    (0..seq.steps.len())
+        .filter(|&i| matches!(seq.steps[i].kind, Kind::Ideal(_)))
+        .map(|step| {
+            let before = crate::paraxial::images(&seq.prefix(step), &object);
+            let object_at = match before.last() {
+                Some(image) => image.at_mm,
+                None => match object {
+                    Object::Finite { z_mm, .. } => Some(z_mm),
+                    Object::Distant { .. } => None,
+                },
+            };
+            let s = &seq.steps[step];
+            let object_mm = object_at.map(|z| (z - s.z_mm) * s.dir_before).filter(|d| d.abs() < FAR_MM);
+            IdealConjugate { step, object_mm }
+        })
+        .collect()
+}
+
+impl IdealConjugate {
+    /// The path to add to a ray that left the lens as `ray` (at the lens's plane): the perfect lens's
+    /// path for this conjugate less the path the trace added.
+    fn correction_mm(&self, seq: &Sequence, ray: &SkewRay) -> f64 {
+        let s = &seq.steps[self.step];
+        let Kind::Ideal(f) = s.kind else { return 0.0 };
+        let n = s.n_before;
+        let (qx, qy) = (ray.x_mm, ray.y_mm);
+        let rho2 = qx * qx + qy * qy;
+        // Direction tangents along the light's travel, out of the lens and into it.
+        let (tx_out, ty_out) = (ray.k / ray.l.abs(), ray.m / ray.l.abs());
+        let (tx_in, ty_in) = (tx_out + qx / f, ty_out + qy / f);
+        // The path from the conjugate point at distance `d` (None: infinity) along tangents `t` to Q,
+        // less that to O, on the object side (`sign` −1) or the image side (+1).
+        let side = |d: Option<f64>, (tx, ty): (f64, f64), sign: f64| -> f64 {
+            let norm = (1.0 + tx * tx + ty * ty).sqrt();
+            match d {
+                None => sign * (tx * qx + ty * qy) / norm,
+                Some(d) => {
+                    let (px, py) = (qx + tx * d, qy + ty * d);
+                    let to_o = (px * px + py * py + d * d).sqrt();
+                    let to_q = d.abs() * norm;
+                    sign * d.signum() * (2.0 * (px * qx + py * qy) - rho2) / (to_o + to_q)
+                }
+            }
+        };
+        let image_mm = match self.object_mm {
+            None => Some(f),
+            Some(d) => {
+                let v = 1.0 / f + 1.0 / d;
+                (v != 0.0).then(|| 1.0 / v).filter(|z| z.abs() < FAR_MM)
+            }
+        };
+        let perfect = n * (side(self.object_mm, (tx_in, ty_in), -1.0) + side(image_mm, (tx_out, ty_out), 1.0));
+        let traced = -n * ((rho2 + f * f).sqrt() - f.abs()) * f.signum();
+        perfect - traced
+    }
 }
 
 /// Whether the map cell centred at (px, py) belongs to the pupil: 1 when its centre lies inside the
@@ -233,7 +334,13 @@ impl Wavefront {
         }
         let exit_at_mm = pupils.exit_pupil_at_mm.ok_or(WavefrontError::NoExitPupil)?;
         let aimer = SkewAimer::new(seq, object, pupils, request.fraction).map_err(WavefrontError::Chief)?;
-        let chief = skew::trace_with(seq, aimer.chief_ray(), false).map_err(WavefrontError::Chief)?;
+        let conjugates = ideal_conjugates(seq, object);
+        let mut chief = skew::trace_with(seq, aimer.chief_ray(), false).map_err(WavefrontError::Chief)?;
+        for lens in &conjugates {
+            let at_lens = skew::trace_with(&seq.prefix(lens.step + 1), aimer.chief_ray(), false)
+                .map_err(WavefrontError::Chief)?;
+            chief.opl_mm += lens.correction_mm(seq, &at_lens);
+        }
         let (cx, cy) = chief.at_plane(request.image_at_mm);
         let (ex, ey) = chief.at_plane(exit_at_mm);
         let centre = [cx, cy, request.image_at_mm];
@@ -259,7 +366,7 @@ impl Wavefront {
             }
         }
         let points: Vec<(f64, f64)> = gauss.iter().map(|&(x, y, _)| (x, y)).collect();
-        let samples: Vec<WaveSample> = trace_points(seq, &aimer, a, &points)
+        let samples: Vec<WaveSample> = trace_points(seq, &conjugates, &aimer, a, &points)
             .into_iter()
             .zip(&gauss)
             .filter_map(|(r, &(px, py, weight))| {
@@ -289,7 +396,7 @@ impl Wavefront {
         }
         let inside: Vec<usize> = (0..map_points.len()).filter(|&i| coverage[i] > 0.0).collect();
         let pts: Vec<(f64, f64)> = inside.iter().map(|&i| clamp_to_disc(map_points[i])).collect();
-        let traced = trace_points(seq, &aimer, a, &pts);
+        let traced = trace_points(seq, &conjugates, &aimer, a, &pts);
         let mut map = vec![None; across * across];
         for ((&i, r), &(px, py)) in inside.iter().zip(traced).zip(&pts) {
             let w = r.as_ref().and_then(|r| reference.opd_mm(r)).map(|w| w / wave_mm - eval(&TILT, &tilt, px, py));
@@ -299,7 +406,7 @@ impl Wavefront {
             }
         }
 
-        let edges = trace_points(seq, &aimer, a, &[(1.0, 0.0), (-1.0, 0.0), (0.0, 1.0), (0.0, -1.0)]);
+        let edges = trace_points(seq, &conjugates, &aimer, a, &[(1.0, 0.0), (-1.0, 0.0), (0.0, 1.0), (0.0, -1.0)]);
         let spread = |p: &Option<SkewRay>, q: &Option<SkewRay>, f: fn(&SkewRay) -> f64| {
             p.as_ref().zip(q.as_ref()).map(|(p, q)| 0.5 * n * (f(p) - f(q)).abs())
         };
@@ -313,7 +420,7 @@ impl Wavefront {
         let fan = |along_y: bool| -> Vec<FanPoint> {
             let ps: Vec<f64> = (0..FAN_POINTS).map(|i| -1.0 + 2.0 * i as f64 / (FAN_POINTS - 1) as f64).collect();
             let pts: Vec<(f64, f64)> = ps.iter().map(|&p| if along_y { (0.0, p) } else { (p, 0.0) }).collect();
-            trace_points(seq, &aimer, a, &pts)
+            trace_points(seq, &conjugates, &aimer, a, &pts)
                 .into_iter()
                 .zip(ps.iter().zip(&pts))
                 .filter_map(|(r, (&p, &(px, py)))| {

@@ -331,3 +331,54 @@ fn polychromatic_mtf_weights_each_wavelength() {
     let poly = Psf::polychromatic(&[(0.25, &a), (0.75, &b)]).unwrap();
     assert!((poly.total() - 1.0).abs() < 0.02, "{}", poly.total());
 }
+
+/// An ideal lens images every point of every plane perfectly, so its wavefront error is zero at any
+/// conjugate, on axis and off it (Fermat's principle: every ray from a point to its perfect image has the
+/// same optical path; Born & Wolf, *Principles of Optics*, §3.3.2). Cases: a real object at 300 mm giving
+/// m = −0.5; a point off axis of it; a distant point 3° off axis (the plane wave's path); and two lenses,
+/// the second imaging the first's converging light, a virtual object, into a real image. Within 1e-7
+/// waves, as for the on-axis plane wave above.
+#[test]
+fn ideal_lenses_are_perfect_at_every_conjugate() {
+    // An iris just in front of the first lens is the stop.
+    let one = System {
+        object_medium: Material::AIR,
+        surfaces: vec![Surface::aperture(299.0, 12.0), Surface::ideal_lens(300.0, 100.0)],
+    }
+    .at(WAVE_NM)
+    .unwrap();
+    let two = System {
+        object_medium: Material::AIR,
+        surfaces: vec![
+            Surface::aperture(299.0, 12.0),
+            Surface::ideal_lens(300.0, 100.0),
+            Surface::ideal_lens(380.0, -60.0),
+        ],
+    }
+    .at(WAVE_NM)
+    .unwrap();
+    let cases = [
+        (&one, Object::Finite { z_mm: 0.0, height_mm: 10.0 }, "real object, m = −0.5"),
+        (&one, Object::Distant { field_deg: 3.0, beam_diameter_mm: 30.0 }, "distant point off axis"),
+        (&two, Object::Finite { z_mm: 0.0, height_mm: 5.0 }, "virtual object for the second lens"),
+    ];
+    for (seq, object, what) in cases {
+        let pupils = Pupils::find(seq, &object).unwrap();
+        let image = lumenrail_optics::paraxial::images(seq, &object).last().unwrap().at_mm.unwrap();
+        for fraction in [0.0, 1.0] {
+            let wf = Wavefront::of(
+                seq,
+                object,
+                &pupils,
+                &WavefrontRequest { fraction, image_at_mm: image, samples_across: 32 },
+            )
+            .unwrap();
+            let worst = wf.samples.iter().map(|s| s.waves.abs()).fold(0.0, f64::max);
+            assert!(
+                wf.rms_waves < 1e-7 && worst < 1e-7,
+                "{what}, field {fraction}: RMS {} worst {worst}",
+                wf.rms_waves
+            );
+        }
+    }
+}

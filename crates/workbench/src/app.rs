@@ -280,7 +280,11 @@ pub fn run(
     }
     let size = window.map_or([1400.0, 860.0], |(w, h)| [w as f32, h as f32]);
     let options = eframe::NativeOptions {
-        viewport: egui::ViewportBuilder::default().with_inner_size(size).with_title(APP_NAME),
+        viewport: window_icon()
+            .into_iter()
+            .fold(egui::ViewportBuilder::default().with_inner_size(size).with_title(APP_NAME), |v, icon| {
+                v.with_icon(icon)
+            }),
         persist_window: screenshot.is_none() && window.is_none(),
         ..Default::default()
     };
@@ -290,4 +294,12 @@ pub fn run(
         Box::new(move |cc| Ok(Box::new(WorkbenchApp::new(cc, workbench, screenshot).with_script(script)))),
     )
     .map_err(|e| e.to_string())
+}
+
+/// The window's icon: the program's own icon (`lumenrail_export::icon`) at 64 pixels; none if it cannot be
+/// drawn (the window then has the desktop's default, and nothing else changes).
+fn window_icon() -> Option<std::sync::Arc<egui::IconData>> {
+    const SIZE: u32 = 64;
+    let rgba = lumenrail_export::icon::rgba(SIZE).ok()?;
+    Some(std::sync::Arc::new(egui::IconData { rgba, width: SIZE, height: SIZE }))
 }
