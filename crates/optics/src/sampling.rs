@@ -470,22 +470,7 @@ pub fn pupil_transmission_integrated(seq: &Sequence, aimer: &SkewAimer, fraction
         return Ok(arm_share(seq, aimer, 0.0).clamp(0.0, 1.0));
     }
     let arm = |phi: f64| arm_share(seq, aimer, phi);
-    const START: usize = 8;
-    let h = std::f64::consts::TAU / START as f64;
-    // The starting grid's ends and midpoints, shared by neighbouring intervals (a(φ) is periodic). The
-    // arms, and then the intervals, are independent: they run on every core, and the intervals' parts are
-    // summed in their fixed order afterwards, so the share is the same bit for bit on any number of threads.
-    let values: Vec<f64> = (0..2 * START).into_par_iter().map(|j| arm(0.5 * h * j as f64)).collect();
-    let parts: Vec<f64> = (0..START)
-        .into_par_iter()
-        .map(|k| {
-            let (a, b) = (k as f64 * h, (k + 1) as f64 * h);
-            let v = [values[2 * k], values[2 * k + 1], values[(2 * k + 2) % (2 * START)]];
-            let whole = h / 6.0 * (v[0] + 4.0 * v[1] + v[2]);
-            adaptive_simpson(&arm, (a, b), v, whole, 1e-7 * h, 10, ARMS_PER_INTERVAL)
-        })
-        .collect();
-    let total = parts.iter().fold(0.0, |sum, part| sum + part);
+    let total = adaptive_simpson_periodic(&arm, 8, 1e-7, ARMS);
     Ok((total / std::f64::consts::TAU).clamp(0.0, 1.0))
 }
 
@@ -501,14 +486,16 @@ fn arm_share(seq: &Sequence, aimer: &SkewAimer, phi: f64) -> f64 {
     passing_measure((0.0, 1.0), 8, 1e-8, clearance, |a, b| b * b - a * a)
 }
 
-/// The most arms adaptive refinement traces in one of the eight starting intervals. A smooth share
-/// settles in a few (the demos take 2 to 40 in all), a kink (where an iris's rim starts to clip) in a few
-/// dozen; a share that jumps about from arm to arm (a pinhole far smaller than the beam, met by only some
-/// arms' samples) would otherwise refine to the full depth everywhere, 2¹¹ arms an interval, seconds of
-/// tracing for a figure no finer than its arms.
-const ARMS_PER_INTERVAL: usize = 128;
+/// The most arms the integral over φ traces. A smooth share settles in a few (the demos take 2 to 40), a
+/// kink where an iris's rim starts to clip in up to about 380 (two irises at 8°); a share that jumps about from arm to arm (a
+/// pinhole far smaller than the beam, met by only some arms' samples) would otherwise refine to the full
+/// depth everywhere, 2¹¹ arms an interval, seconds of tracing for a figure no finer than its arms.
+const ARMS: usize = 384;
 
-/// A part of an interval in adaptive Simpson's rule, its ends', midpoint's and quarter points' values
+/// How many parts one round of refinement splits, their new arms traced together on every core.
+const SPLITS_PER_ROUND: usize = 8;
+
+/// A part of the interval in adaptive Simpson's rule, its ends', midpoint's and quarter points' values
 /// known: both halves' Simpson sums and the error estimate they give.
 struct Part {
     a: f64,
@@ -523,12 +510,11 @@ struct Part {
 }
 
 impl Part {
-    fn new(f: &(dyn Fn(f64) -> f64 + Sync), a: f64, b: f64, v: [f64; 3], whole: f64, tol: f64, depth: u32) -> Part {
-        let m = 0.5 * (a + b);
-        let (flm, frm) = (f(0.5 * (a + m)), f(0.5 * (m + b)));
-        let left = (m - a) / 6.0 * (v[0] + 4.0 * flm + v[1]);
-        let right = (b - m) / 6.0 * (v[1] + 4.0 * frm + v[2]);
-        Part { a, b, v: [v[0], flm, v[1], frm, v[2]], left, right, error: left + right - whole, tol, depth }
+    /// The part [a, b] with its five values and its whole-interval Simpson sum.
+    fn new(a: f64, b: f64, v: [f64; 5], whole: f64, tol: f64, depth: u32) -> Part {
+        let left = 0.5 * (b - a) / 6.0 * (v[0] + 4.0 * v[1] + v[2]);
+        let right = 0.5 * (b - a) / 6.0 * (v[2] + 4.0 * v[3] + v[4]);
+        Part { a, b, v, left, right, error: left + right - whole, tol, depth }
     }
 
     fn settled(&self) -> bool {
@@ -541,36 +527,49 @@ impl Part {
     }
 }
 
-/// Adaptive Simpson's rule on [a, b] with the ends' and midpoint's values known (Lyness 1969), refining
-/// the unsettled part with the largest error first (the earliest made of equals) while `budget` evaluations of
-/// `f` last, to `depth` halvings at most; once the budget is spent, each open part keeps its corrected
-/// estimate. The parts are summed left to right, so the result depends on `f` alone.
-fn adaptive_simpson(
-    f: &(dyn Fn(f64) -> f64 + Sync),
-    (a, b): (f64, f64),
-    v: [f64; 3],
-    whole: f64,
-    tol: f64,
-    depth: u32,
-    mut budget: usize,
-) -> f64 {
-    let mut parts = vec![Part::new(f, a, b, v, whole, tol, depth)];
-    budget = budget.saturating_sub(2);
-    while budget >= 4 {
-        let worst =
-            parts.iter().enumerate().filter(|(_, p)| !p.settled()).fold(None, |best: Option<(usize, f64)>, (i, p)| {
-                match best {
-                    Some((_, e)) if e >= p.error.abs() => best,
-                    _ => Some((i, p.error.abs())),
-                }
-            });
-        let Some((i, _)) = worst else { break };
-        let p = parts.swap_remove(i);
-        let m = 0.5 * (p.a + p.b);
-        let (t, d) = (0.5 * p.tol, p.depth - 1);
-        parts.push(Part::new(f, p.a, m, [p.v[0], p.v[1], p.v[2]], p.left, t, d));
-        parts.push(Part::new(f, m, p.b, [p.v[2], p.v[3], p.v[4]], p.right, t, d));
-        budget -= 4;
+/// ∫₀^2π f(φ) dφ of a periodic `f` by adaptive Simpson's rule (Lyness 1969) from `start` equal intervals,
+/// to an error of about `density` per radian: each round splits the unsettled parts with the largest error
+/// estimates (at most [`SPLITS_PER_ROUND`], the earliest made among equals), their new values computed on
+/// every core, until every part settles (or has been halved ten times) or `budget` evaluations are spent;
+/// open parts then keep their corrected estimates. The parts are summed in order of φ, so the result
+/// depends on `f` alone, not on the number of threads.
+fn adaptive_simpson_periodic(f: &(dyn Fn(f64) -> f64 + Sync), start: usize, density: f64, budget: usize) -> f64 {
+    let h = std::f64::consts::TAU / start as f64;
+    let values: Vec<f64> = (0..4 * start).into_par_iter().map(|j| f(0.25 * h * j as f64)).collect();
+    let mut spent = values.len();
+    let mut parts: Vec<Part> = (0..start)
+        .map(|k| {
+            let v = std::array::from_fn(|i| values[(4 * k + i) % (4 * start)]);
+            let whole = h / 6.0 * (v[0] + 4.0 * v[2] + v[4]);
+            Part::new(k as f64 * h, (k + 1) as f64 * h, v, whole, density * h, 10)
+        })
+        .collect();
+    while spent + 4 <= budget {
+        let mut open: Vec<usize> = (0..parts.len()).filter(|&i| !parts[i].settled()).collect();
+        if open.is_empty() {
+            break;
+        }
+        open.sort_by(|&i, &j| parts[j].error.abs().total_cmp(&parts[i].error.abs()).then(i.cmp(&j)));
+        open.truncate(SPLITS_PER_ROUND.min((budget - spent) / 4));
+        open.sort_unstable();
+        let xs: Vec<f64> = open
+            .iter()
+            .flat_map(|&i| {
+                let (a, b) = (parts[i].a, parts[i].b);
+                let q = 0.125 * (b - a);
+                [a + q, a + 3.0 * q, a + 5.0 * q, a + 7.0 * q]
+            })
+            .collect();
+        let new: Vec<f64> = xs.par_iter().map(|&x| f(x)).collect();
+        spent += new.len();
+        for (k, &i) in open.iter().enumerate().rev() {
+            let p = parts.swap_remove(i);
+            let n = &new[4 * k..4 * k + 4];
+            let m = 0.5 * (p.a + p.b);
+            let (t, d) = (0.5 * p.tol, p.depth - 1);
+            parts.push(Part::new(p.a, m, [p.v[0], n[0], p.v[1], n[1], p.v[2]], p.left, t, d));
+            parts.push(Part::new(m, p.b, [p.v[2], n[2], p.v[3], n[3], p.v[4]], p.right, t, d));
+        }
     }
     parts.sort_by(|x, y| x.a.total_cmp(&y.a));
     parts.iter().fold(0.0, |sum, p| sum + p.value())
