@@ -5,7 +5,7 @@
 //! processors with AVX2 the same loop is compiled a second time for 4-wide vectors and chosen at run time;
 //! what ships runs on any x86-64 or ARM64 computer.
 
-use crate::simd::Lane;
+use crate::simd::{Lane, Pair};
 use crate::system::{Kind, Sequence, Step};
 use crate::trace::{FATE_BLOCKED, IDEAL, Ray, RayError, StepLanes, fate_error, hit, ideal_lens_path, with_kernel_form};
 
@@ -155,14 +155,28 @@ struct Block<'a> {
     fate: &'a mut [f64],
 }
 
-/// One surface for every ray of a block: whole lane vectors first, then the rest one ray at a time.
+/// One surface for every ray of a block: pairs of lane vectors first (two dependency chains side by side),
+/// then one lane vector, then the rest one ray at a time.
 #[inline(always)]
 fn surface_loop<V: Lane, const SHAPE: u8, const ACTION: u8>(step: &Step, code: f64, b: &mut Block<'_>) {
     let n = b.y.len();
-    let whole = n - n % V::WIDTH;
+    // Every array cut to the same length n, so that the loop bound proves each lane index in bounds.
+    let b = &mut Block {
+        y: &mut b.y[..n],
+        z: &mut b.z[..n],
+        m: &mut b.m[..n],
+        l: &mut b.l[..n],
+        opl: &mut b.opl[..n],
+        fate: &mut b.fate[..n],
+    };
     let mut i = 0;
+    let k2 = StepLanes::<Pair<V>>::new(step);
+    while i + 2 * V::WIDTH <= n {
+        lanes_at::<Pair<V>, SHAPE, ACTION>(&k2, step, code, b, i);
+        i += 2 * V::WIDTH;
+    }
     let k = StepLanes::<V>::new(step);
-    while i < whole {
+    while i + V::WIDTH <= n {
         lanes_at::<V, SHAPE, ACTION>(&k, step, code, b, i);
         i += V::WIDTH;
     }
@@ -184,8 +198,8 @@ fn lanes_at<V: Lane, const SHAPE: u8, const ACTION: u8>(
     let w = V::WIDTH;
     let (y, z, m, l) =
         (V::load(&b.y[i..i + w]), V::load(&b.z[i..i + w]), V::load(&b.m[i..i + w]), V::load(&b.l[i..i + w]));
-    let (opl, fate) = (V::load(&b.opl[i..i + w]), V::load(&b.fate[i..i + w]));
     let h = hit::<V, SHAPE, ACTION>(k, y, z, m, l);
+    let (opl, fate) = (V::load(&b.opl[i..i + w]), V::load(&b.fate[i..i + w]));
     let zero = V::splat(0.0);
     let alive = fate.eq(zero);
     let through = h.through();
@@ -204,6 +218,11 @@ fn lanes_at<V: Lane, const SHAPE: u8, const ACTION: u8>(
         (opl + path).store(&mut b.opl[i..i + w]);
         return;
     }
+    // The old values are read again here rather than kept in registers through the whole surface: an
+    // index the compiler cannot follow makes it load them anew instead of spilling them on the usual path.
+    let i = std::hint::black_box(i);
+    let (y, z, m, l) =
+        (V::load(&b.y[i..i + w]), V::load(&b.z[i..i + w]), V::load(&b.m[i..i + w]), V::load(&b.l[i..i + w]));
     let code_now = h.fate();
     // Blocked rays move to the surface that blocked them (for drawing); others keep their place.
     let moved = ok | (alive & code_now.eq(V::splat(FATE_BLOCKED)));

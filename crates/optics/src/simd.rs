@@ -30,6 +30,9 @@ pub(crate) trait Lane:
     fn abs(self) -> Self;
     /// The magnitude of `self` with the sign of `sign`.
     fn copysign(self, sign: Self) -> Self;
+    /// `self`, which must be non-negative with its sign bit clear (a square root of a non-negative
+    /// number), with the sign of `sign`: one bitwise OR of the sign bit, cheaper than [`Lane::copysign`].
+    fn signed_like(self, sign: Self) -> Self;
     /// `self · b + c`, fused where the lane type has fused multiply-add.
     fn mul_add(self, b: Self, c: Self) -> Self;
     /// `self < o`.
@@ -82,6 +85,10 @@ impl Lane for f64 {
         f64::copysign(self, sign)
     }
     #[inline(always)]
+    fn signed_like(self, sign: f64) -> f64 {
+        f64::copysign(self, sign)
+    }
+    #[inline(always)]
     fn mul_add(self, b: f64, c: f64) -> f64 {
         // Not fused: single rays must agree bit for bit with the portable batch.
         self * b + c
@@ -127,6 +134,129 @@ impl Lane for f64 {
     #[inline(always)]
     fn all(m: bool) -> bool {
         m
+    }
+}
+
+/// Two lane vectors traced side by side as one: each formula runs on both halves in one straight stretch of
+/// code, so the processor overlaps the two dependency chains (the square roots and divisions of one half
+/// wait while the other half computes). The arithmetic of each half is that of `V`, so `Pair<V>` agrees
+/// with `V` bit for bit.
+#[derive(Clone, Copy)]
+pub(crate) struct Pair<V>(V, V);
+
+/// The mask of a [`Pair`].
+#[derive(Clone, Copy)]
+pub(crate) struct PairMask<M>(M, M);
+
+macro_rules! pair_binary {
+    ($ty:ident, $tr:ident, $f:ident, $bound:ident) => {
+        impl<V: $bound> $tr for $ty<V> {
+            type Output = $ty<V>;
+            #[inline(always)]
+            fn $f(self, o: $ty<V>) -> $ty<V> {
+                $ty($tr::$f(self.0, o.0), $tr::$f(self.1, o.1))
+            }
+        }
+    };
+}
+
+/// The operations a mask of a [`Pair`] needs from the mask of its halves.
+pub(crate) trait MaskOps: Copy + BitAnd<Output = Self> + BitOr<Output = Self> + Not<Output = Self> {}
+impl<M: Copy + BitAnd<Output = M> + BitOr<Output = M> + Not<Output = M>> MaskOps for M {}
+
+pair_binary!(Pair, Add, add, Lane);
+pair_binary!(Pair, Sub, sub, Lane);
+pair_binary!(Pair, Mul, mul, Lane);
+pair_binary!(Pair, Div, div, Lane);
+pair_binary!(PairMask, BitAnd, bitand, MaskOps);
+pair_binary!(PairMask, BitOr, bitor, MaskOps);
+
+impl<V: Lane> Neg for Pair<V> {
+    type Output = Pair<V>;
+    #[inline(always)]
+    fn neg(self) -> Pair<V> {
+        Pair(-self.0, -self.1)
+    }
+}
+
+impl<M: MaskOps> Not for PairMask<M> {
+    type Output = PairMask<M>;
+    #[inline(always)]
+    fn not(self) -> PairMask<M> {
+        PairMask(!self.0, !self.1)
+    }
+}
+
+macro_rules! pair_unary {
+    ($($f:ident),*) => {
+        $(
+            #[inline(always)]
+            fn $f(self) -> Pair<V> {
+                Pair(self.0.$f(), self.1.$f())
+            }
+        )*
+    };
+}
+
+macro_rules! pair_cmp {
+    ($($f:ident),*) => {
+        $(
+            #[inline(always)]
+            fn $f(self, o: Pair<V>) -> PairMask<V::Mask> {
+                PairMask(self.0.$f(o.0), self.1.$f(o.1))
+            }
+        )*
+    };
+}
+
+impl<V: Lane> Lane for Pair<V> {
+    type Mask = PairMask<V::Mask>;
+    const WIDTH: usize = 2 * V::WIDTH;
+    #[inline(always)]
+    fn splat(v: f64) -> Pair<V> {
+        Pair(V::splat(v), V::splat(v))
+    }
+    #[inline(always)]
+    fn load(s: &[f64]) -> Pair<V> {
+        let (a, b) = s.split_at(V::WIDTH);
+        Pair(V::load(a), V::load(b))
+    }
+    #[inline(always)]
+    fn store(self, s: &mut [f64]) {
+        let (a, b) = s.split_at_mut(V::WIDTH);
+        self.0.store(a);
+        self.1.store(b);
+    }
+    pair_unary!(sqrt, abs, max0);
+    #[inline(always)]
+    fn copysign(self, sign: Pair<V>) -> Pair<V> {
+        Pair(self.0.copysign(sign.0), self.1.copysign(sign.1))
+    }
+    #[inline(always)]
+    fn signed_like(self, sign: Pair<V>) -> Pair<V> {
+        Pair(self.0.signed_like(sign.0), self.1.signed_like(sign.1))
+    }
+    #[inline(always)]
+    fn mul_add(self, b: Pair<V>, c: Pair<V>) -> Pair<V> {
+        Pair(self.0.mul_add(b.0, c.0), self.1.mul_add(b.1, c.1))
+    }
+    pair_cmp!(lt, le, gt, ge, eq);
+    #[inline(always)]
+    fn select(m: PairMask<V::Mask>, a: Pair<V>, b: Pair<V>) -> Pair<V> {
+        Pair(V::select(m.0, a.0, b.0), V::select(m.1, a.1, b.1))
+    }
+    #[inline(always)]
+    fn only(m: PairMask<V::Mask>, v: Pair<V>) -> Pair<V> {
+        Pair(V::only(m.0, v.0), V::only(m.1, v.1))
+    }
+    #[inline(always)]
+    fn either(self, o: Pair<V>) -> Pair<V> {
+        Pair(self.0.either(o.0), self.1.either(o.1))
+    }
+    #[inline(always)]
+    fn all(m: PairMask<V::Mask>) -> bool {
+        // One test of both halves at once: no branch between them.
+        V::all(m.0 & m.1)
     }
 }
 
@@ -226,6 +356,11 @@ mod x86 {
                 let s = _mm_set1_pd(-0.0);
                 F64x2(_mm_or_pd(_mm_andnot_pd(s, self.0), _mm_and_pd(s, sign.0)))
             }
+        }
+        #[inline(always)]
+        fn signed_like(self, sign: F64x2) -> F64x2 {
+            // SAFETY: SSE2 is part of every x86-64 processor.
+            unsafe { F64x2(_mm_or_pd(self.0, _mm_and_pd(_mm_set1_pd(-0.0), sign.0))) }
         }
         #[inline(always)]
         fn mul_add(self, b: F64x2, c: F64x2) -> F64x2 {
@@ -365,6 +500,11 @@ mod x86 {
                 let s = _mm256_set1_pd(-0.0);
                 F64x4(_mm256_or_pd(_mm256_andnot_pd(s, self.0), _mm256_and_pd(s, sign.0)))
             }
+        }
+        #[inline(always)]
+        fn signed_like(self, sign: F64x4) -> F64x4 {
+            // SAFETY: see `binary!`.
+            unsafe { F64x4(_mm256_or_pd(self.0, _mm256_and_pd(_mm256_set1_pd(-0.0), sign.0))) }
         }
         #[inline(always)]
         fn mul_add(self, b: F64x4, c: F64x4) -> F64x4 {

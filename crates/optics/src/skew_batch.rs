@@ -5,7 +5,7 @@
 //! lane), so the batch and the single ray agree bit for bit in the portable build.
 
 use crate::pose::Pose;
-use crate::simd::Lane;
+use crate::simd::{Lane, Pair};
 use crate::skew::SkewRay;
 use crate::system::{Sequence, Step};
 use crate::trace::{
@@ -55,25 +55,29 @@ pub(crate) fn hit3<V: Lane, const SHAPE: u8, const ACTION: u8>(s: &StepLanes<V>,
     let zero = V::splat(0.0);
     let one = V::splat(1.0);
     let s0 = z - s.z_vertex;
-    let (t, met) = if SHAPE == FLAT {
-        (-s0 / l, !l.eq(zero))
+    // w = 1 − c(1+k)s at the intercept: positive on the sheet that holds the vertex, and the z component of
+    // the (unnormalised) normal there.
+    let (t, met, w) = if SHAPE == FLAT {
+        (-s0 / l, !l.eq(zero), one)
     } else {
         let a = (s.ck * l).mul_add(l, s.c * k.mul_add(k, m * m));
         let b = (s.ck * s0).mul_add(l, s.c * x.mul_add(k, y * m) - l);
         let f = (s.ck * s0).mul_add(s0, s.c * x.mul_add(x, y * y) - V::splat(2.0) * s0);
         let disc = b.mul_add(b, -(a * f));
-        let d = -b + disc.max0().sqrt().copysign(-b);
+        let d = -b + disc.max0().sqrt().signed_like(-b);
         // The far root d/a is needed only when some lane's first root lands on the far sheet.
         let t1 = f / d;
-        let near_ok = (one - s.ck * t1.mul_add(l, s0)).gt(zero);
+        let w1 = one - s.ck * t1.mul_add(l, s0);
+        let near_ok = w1.gt(zero);
         let finite = |t: V| t.abs().lt(V::splat(f64::INFINITY));
         if V::all(near_ok) {
-            (t1, disc.ge(zero) & finite(t1))
+            (t1, disc.ge(zero) & finite(t1), w1)
         } else {
             let t2 = V::select(a.eq(zero), V::splat(f64::INFINITY), d / a);
-            let far_ok = (one - s.ck * t2.mul_add(l, s0)).gt(zero);
+            let w2 = one - s.ck * t2.mul_add(l, s0);
+            let far_ok = w2.gt(zero);
             let t = V::select(near_ok, t1, t2);
-            (t, disc.ge(zero) & (near_ok | far_ok) & finite(t))
+            (t, disc.ge(zero) & (near_ok | far_ok) & finite(t), V::select(near_ok, w1, w2))
         }
     };
     let (x1, y1, z1) = (t.mul_add(k, x), t.mul_add(m, y), t.mul_add(l, z));
@@ -81,9 +85,9 @@ pub(crate) fn hit3<V: Lane, const SHAPE: u8, const ACTION: u8>(s: &StepLanes<V>,
     let inside = rho2.le(s.semi * s.semi);
     let (nx, ny, nz) = match SHAPE {
         FLAT => (zero, zero, one),
-        SPHERE => (-s.c * x1, -s.c * y1, one - s.ck * (z1 - s.z_vertex)),
+        SPHERE => (-s.c * x1, -s.c * y1, w),
         _ => {
-            let (nx, ny, nz) = (-s.c * x1, -s.c * y1, one - s.ck * (z1 - s.z_vertex));
+            let (nx, ny, nz) = (-s.c * x1, -s.c * y1, w);
             let inv = one / nx.mul_add(nx, ny.mul_add(ny, nz * nz)).sqrt();
             (nx * inv, ny * inv, nz * inv)
         }
@@ -96,7 +100,7 @@ pub(crate) fn hit3<V: Lane, const SHAPE: u8, const ACTION: u8>(s: &StepLanes<V>,
             let (cx, cy, cz) = (m.mul_add(nz, -(l * ny)), l.mul_add(nx, -(k * nz)), k.mul_add(ny, -(m * nx)));
             let cross2 = cx.mul_add(cx, cy.mul_add(cy, cz * cz));
             let cos2 = (-(mu * mu)).mul_add(cross2, one);
-            let g = cos2.max0().sqrt().copysign(cos_i) - mu * cos_i;
+            let g = cos2.max0().sqrt().signed_like(cos_i) - mu * cos_i;
             (mu.mul_add(k, g * nx), mu.mul_add(m, g * ny), mu.mul_add(l, g * nz), cos2.lt(zero))
         }
         REFLECT => {
@@ -109,7 +113,7 @@ pub(crate) fn hit3<V: Lane, const SHAPE: u8, const ACTION: u8>(s: &StepLanes<V>,
             let inv = one / tx.mul_add(tx, ty.mul_add(ty, one)).sqrt();
             // −n(√(ρ² + f²) − |f|) sgn f keeps the path from a plane wave to the focus equal for every ray.
             path = path - n_before * ((rho2 + f * f).sqrt() - f.abs()) * one.copysign(f);
-            (tx * inv, ty * inv, inv.copysign(l), zero.lt(zero))
+            (tx * inv, ty * inv, inv.signed_like(l), zero.lt(zero))
         }
     };
     Hit3 { x: x1, y: y1, z: z1, k: k1, m: m1, l: l1, path, rho2, met, inside, tir }
@@ -302,20 +306,27 @@ fn carry(
     }
 }
 
-/// One surface for every ray of a block: whole lane vectors, then the rest one ray at a time.
+/// One surface for every ray of a block: pairs of lane vectors first (two dependency chains side by side),
+/// then one lane vector, then the rest one ray at a time.
 #[inline(always)]
 fn surface_loop<V: Lane, const SHAPE: u8, const ACTION: u8>(step: &Step, code: f64, b: &mut [&mut [f64]; 8]) {
     let n = b[0].len();
-    let whole = n - n % V::WIDTH;
-    let s = StepLanes::<V>::new(step);
+    // Every array cut to the same length n, so that the loop bound proves each lane index in bounds.
+    let b = &mut b.each_mut().map(|a| &mut a[..n]);
     let mut i = 0;
-    while i < whole {
-        lanes_at::<V, SHAPE, ACTION>(&s, step, code, b, i);
+    let k2 = StepLanes::<Pair<V>>::new(step);
+    while i + 2 * V::WIDTH <= n {
+        lanes_at::<Pair<V>, SHAPE, ACTION>(&k2, step, code, b, i);
+        i += 2 * V::WIDTH;
+    }
+    let k = StepLanes::<V>::new(step);
+    while i + V::WIDTH <= n {
+        lanes_at::<V, SHAPE, ACTION>(&k, step, code, b, i);
         i += V::WIDTH;
     }
-    let s1 = StepLanes::<f64>::new(step);
+    let k1 = StepLanes::<f64>::new(step);
     while i < n {
-        lanes_at::<f64, SHAPE, ACTION>(&s1, step, code, b, i);
+        lanes_at::<f64, SHAPE, ACTION>(&k1, step, code, b, i);
         i += 1;
     }
 }
@@ -329,10 +340,10 @@ fn lanes_at<V: Lane, const SHAPE: u8, const ACTION: u8>(
     i: usize,
 ) {
     let w = V::WIDTH;
-    let load = |a: &[f64]| V::load(&a[i..i + w]);
-    let ray = [load(b[0]), load(b[1]), load(b[2]), load(b[3]), load(b[4]), load(b[5])];
-    let (opl, fate) = (load(b[6]), load(b[7]));
+    let load = |a: &[f64], i: usize| V::load(&a[i..i + w]);
+    let ray = [load(b[0], i), load(b[1], i), load(b[2], i), load(b[3], i), load(b[4], i), load(b[5], i)];
     let h = hit3::<V, SHAPE, ACTION>(s, V::splat(step.n_before), ray);
+    let (opl, fate) = (load(b[6], i), load(b[7], i));
     let new = [h.x, h.y, h.z, h.k, h.m, h.l];
     let alive = fate.eq(V::splat(0.0));
     let through = h.through();
@@ -344,6 +355,10 @@ fn lanes_at<V: Lane, const SHAPE: u8, const ACTION: u8>(
         (opl + h.path).store(&mut b[6][i..i + w]);
         return;
     }
+    // The old values are read again here rather than kept in registers through the whole surface: an
+    // index the compiler cannot follow makes it load them anew instead of spilling them on the usual path.
+    let i = std::hint::black_box(i);
+    let ray = [load(b[0], i), load(b[1], i), load(b[2], i), load(b[3], i), load(b[4], i), load(b[5], i)];
     let why = h.fate();
     // Blocked rays move to the surface that blocked them (for drawing); others keep their place.
     let moved = ok | (alive & why.eq(V::splat(FATE_BLOCKED)));
