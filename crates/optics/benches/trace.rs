@@ -5,15 +5,15 @@
 
 use criterion::{BatchSize, Criterion, Throughput, criterion_group, criterion_main};
 use lumenrail_optics::analysis::{Request, analyse};
-#[cfg(target_arch = "x86_64")]
-use lumenrail_optics::batch::trace_batch_avx2;
 use lumenrail_optics::batch::{RayBatch, trace_batch, trace_batch_portable};
+#[cfg(target_arch = "x86_64")]
+use lumenrail_optics::batch::{trace_batch_avx2, trace_batch_avx512};
 use lumenrail_optics::material::Material;
 use lumenrail_optics::paraxial::Object;
 use lumenrail_optics::skew::SkewRay;
-#[cfg(target_arch = "x86_64")]
-use lumenrail_optics::skew_batch::trace_skew_batch_avx2;
 use lumenrail_optics::skew_batch::{SkewBatch, trace_skew_batch, trace_skew_batch_portable};
+#[cfg(target_arch = "x86_64")]
+use lumenrail_optics::skew_batch::{trace_skew_batch_avx2, trace_skew_batch_avx512};
 use lumenrail_optics::system::{Sequence, Shape, Surface, System};
 use lumenrail_optics::trace::Ray;
 use std::hint::black_box;
@@ -61,6 +61,17 @@ fn batch_trace(c: &mut Criterion) {
             b.iter_batched_ref(fresh, |work| unsafe { trace_batch_avx2(&seq, black_box(work)) }, BatchSize::LargeInput)
         });
     }
+    #[cfg(target_arch = "x86_64")]
+    if std::arch::is_x86_feature_detected!("avx512f") && std::arch::is_x86_feature_detected!("fma") {
+        g.bench_function("avx512_1e6_rays_10_surfaces", |b| {
+            // SAFETY: AVX-512 F and FMA were just detected (AVX2 comes with AVX-512 F).
+            b.iter_batched_ref(
+                fresh,
+                |work| unsafe { trace_batch_avx512(&seq, black_box(work)) },
+                BatchSize::LargeInput,
+            )
+        });
+    }
     g.bench_function("dispatched_1e6_rays_10_surfaces_37pc_blocked", |b| {
         b.iter_batched_ref(|| partly_blocked.clone(), |work| trace_batch(&seq, black_box(work)), BatchSize::LargeInput)
     });
@@ -97,6 +108,17 @@ fn skew_batch_trace(c: &mut Criterion) {
             b.iter_batched_ref(
                 fresh,
                 |work| unsafe { trace_skew_batch_avx2(&seq, black_box(work)) },
+                BatchSize::LargeInput,
+            )
+        });
+    }
+    #[cfg(target_arch = "x86_64")]
+    if std::arch::is_x86_feature_detected!("avx512f") && std::arch::is_x86_feature_detected!("fma") {
+        g.bench_function("avx512_1e6_rays_10_surfaces", |b| {
+            // SAFETY: AVX-512 F and FMA were just detected (AVX2 comes with AVX-512 F).
+            b.iter_batched_ref(
+                fresh,
+                |work| unsafe { trace_skew_batch_avx512(&seq, black_box(work)) },
                 BatchSize::LargeInput,
             )
         });

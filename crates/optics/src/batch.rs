@@ -86,11 +86,18 @@ impl RayBatch {
 /// Traces every ray of `batch` through `seq`, in place. A ray that is stopped keeps its last good values
 /// and records where and why; see [`RayBatch::outcome`].
 ///
-/// On x86-64 processors with AVX2 and FMA the four-lane loop runs (it may round a fused multiply-add
-/// differently from [`crate::trace::trace`], by about 1e-16 relative); elsewhere the portable loop.
+/// The widest loop this processor runs is chosen at run time: on x86-64 with AVX-512 F the eight-lane
+/// loop, else with AVX2 and FMA the four-lane one (the two agree bit for bit; both may round a fused
+/// multiply-add differently from [`crate::trace::trace`], by about 1e-16 relative); elsewhere the portable
+/// loop.
 pub fn trace_batch(seq: &Sequence, batch: &mut RayBatch) {
     #[cfg(target_arch = "x86_64")]
     {
+        if crate::simd::has_avx512f() {
+            // SAFETY: the processor has just been checked for AVX-512 F, AVX2 and FMA.
+            unsafe { trace_batch_avx512(seq, batch) };
+            return;
+        }
         if crate::simd::has_avx2_fma() {
             // SAFETY: the processor has just been checked for AVX2 and FMA.
             unsafe { trace_batch_avx2(seq, batch) };
@@ -100,23 +107,36 @@ pub fn trace_batch(seq: &Sequence, batch: &mut RayBatch) {
     trace_batch_portable(seq, batch);
 }
 
-/// The portable batch loop: two SSE2 lanes on x86-64 (every x86-64 processor has them), one lane
+/// The portable batch loop: SSE2 pairs on x86-64 (every x86-64 processor has them), one lane
 /// elsewhere. Its arithmetic is that of the single-ray trace, so the two agree bit for bit.
 pub fn trace_batch_portable(seq: &Sequence, batch: &mut RayBatch) {
     #[cfg(target_arch = "x86_64")]
-    trace_blocks::<crate::simd::F64x2>(seq, batch);
+    trace_blocks::<Pair<crate::simd::F64x2>, crate::simd::F64x2>(seq, batch);
     #[cfg(not(target_arch = "x86_64"))]
-    trace_blocks::<f64>(seq, batch);
+    trace_blocks::<Pair<f64>, f64>(seq, batch);
 }
 
-/// The batch loop in four AVX lanes with fused multiply-add.
+/// The batch loop in four AVX lanes with fused multiply-add, two vectors side by side.
 ///
 /// # Safety
 /// The processor must support AVX2 and FMA.
 #[cfg(target_arch = "x86_64")]
 #[target_feature(enable = "avx2,fma")]
 pub unsafe fn trace_batch_avx2(seq: &Sequence, batch: &mut RayBatch) {
-    trace_blocks::<crate::simd::F64x4>(seq, batch);
+    use crate::simd::F64x4;
+    trace_blocks::<Pair<F64x4>, F64x4>(seq, batch);
+}
+
+/// The batch loop in eight AVX-512 lanes with fused multiply-add (four AVX lanes for the tail of a
+/// block): the same fused operations as [`trace_batch_avx2`], so the two agree bit for bit.
+///
+/// # Safety
+/// The processor must support AVX-512 F, AVX2 and FMA.
+#[cfg(target_arch = "x86_64")]
+#[target_feature(enable = "avx512f,avx2,fma")]
+pub unsafe fn trace_batch_avx512(seq: &Sequence, batch: &mut RayBatch) {
+    use crate::simd::{F64x4, F64x8};
+    trace_blocks::<Pair<F64x8>, F64x4>(seq, batch);
 }
 
 /// Rays per block: a block's six arrays (24 KiB) stay in the first-level cache while it crosses every
@@ -124,7 +144,7 @@ pub unsafe fn trace_batch_avx2(seq: &Sequence, batch: &mut RayBatch) {
 const BLOCK: usize = 512;
 
 #[inline(always)]
-fn trace_blocks<V: Lane>(seq: &Sequence, batch: &mut RayBatch) {
+fn trace_blocks<W: Lane, H: Lane>(seq: &Sequence, batch: &mut RayBatch) {
     let n = batch.len();
     let mut start = 0;
     while start < n {
@@ -139,7 +159,7 @@ fn trace_blocks<V: Lane>(seq: &Sequence, batch: &mut RayBatch) {
         };
         for (index, step) in seq.steps.iter().enumerate() {
             let code = 4.0 * (index as f64 + 1.0);
-            with_kernel_form!(step, surface_loop::<V>(step, code, &mut lanes));
+            with_kernel_form!(step, surface_loop::<W, H>(step, code, &mut lanes));
         }
         start = end;
     }
@@ -155,10 +175,12 @@ struct Block<'a> {
     fate: &'a mut [f64],
 }
 
-/// One surface for every ray of a block: pairs of lane vectors first (two dependency chains side by side),
-/// then one lane vector, then the rest one ray at a time.
+/// One surface for every ray of a block: wide lane vectors `W` first (a [`Pair`] where two dependency
+/// chains side by side keep the processor busy), then narrow ones `H`, then the rest one ray at a time.
+/// Every build covers the same rays with vectors (all but the last `len % H::WIDTH`), so the fused builds
+/// agree with each other bit for bit.
 #[inline(always)]
-fn surface_loop<V: Lane, const SHAPE: u8, const ACTION: u8>(step: &Step, code: f64, b: &mut Block<'_>) {
+fn surface_loop<W: Lane, H: Lane, const SHAPE: u8, const ACTION: u8>(step: &Step, code: f64, b: &mut Block<'_>) {
     let n = b.y.len();
     // Every array cut to the same length n, so that the loop bound proves each lane index in bounds.
     let b = &mut Block {
@@ -170,15 +192,15 @@ fn surface_loop<V: Lane, const SHAPE: u8, const ACTION: u8>(step: &Step, code: f
         fate: &mut b.fate[..n],
     };
     let mut i = 0;
-    let k2 = StepLanes::<Pair<V>>::new(step);
-    while i + 2 * V::WIDTH <= n {
-        lanes_at::<Pair<V>, SHAPE, ACTION>(&k2, step, code, b, i);
-        i += 2 * V::WIDTH;
+    let kw = StepLanes::<W>::new(step);
+    while i + W::WIDTH <= n {
+        lanes_at::<W, SHAPE, ACTION>(&kw, step, code, b, i);
+        i += W::WIDTH;
     }
-    let k = StepLanes::<V>::new(step);
-    while i + V::WIDTH <= n {
-        lanes_at::<V, SHAPE, ACTION>(&k, step, code, b, i);
-        i += V::WIDTH;
+    let kh = StepLanes::<H>::new(step);
+    while i + H::WIDTH <= n {
+        lanes_at::<H, SHAPE, ACTION>(&kh, step, code, b, i);
+        i += H::WIDTH;
     }
     let k1 = StepLanes::<f64>::new(step);
     while i < n {
@@ -318,5 +340,36 @@ mod tests {
             }
         }
         assert!(batch.survivors() > 0 && batch.survivors() < 64);
+    }
+
+    /// The AVX-512 loop runs the same fused multiply-adds as the AVX2 loop, over the same rays in vectors
+    /// (67 rays: eight-lane pairs, a four-lane tail and three single rays), so the two agree bit for bit.
+    #[cfg(target_arch = "x86_64")]
+    #[test]
+    fn avx512_equals_avx2_bit_for_bit() {
+        if !crate::simd::has_avx512f() {
+            return;
+        }
+        let system = System {
+            object_medium: Material::AIR,
+            surfaces: vec![
+                Surface::refracting(10.0, Shape::sphere(40.0), Material::Constant(1.6)).with_semi_aperture(8.0),
+                Surface::refracting(15.0, Shape::conic(-60.0, -0.7), Material::AIR).with_semi_aperture(8.0),
+                Surface::ideal_lens(30.0, 80.0),
+                Surface::mirror(60.0, Shape::sphere(-200.0)),
+                Surface::aperture(40.0, 3.0),
+            ],
+        };
+        let seq = system.at(550.0).unwrap();
+        let mut wide = RayBatch::with_capacity(67);
+        (0..67).for_each(|i| wide.push(Ray::at_angle(-9.0 + 18.0 * i as f64 / 66.0, 0.0, 0.01)));
+        let mut narrow = wide.clone();
+        // SAFETY: the processor has just been checked for AVX-512 F, AVX2 and FMA.
+        unsafe {
+            trace_batch_avx512(&seq, &mut wide);
+            trace_batch_avx2(&seq, &mut narrow);
+        }
+        assert!(wide.survivors() > 0 && wide.survivors() < 67);
+        assert_eq!(wide, narrow);
     }
 }

@@ -216,6 +216,11 @@ pub fn trace_skew_batch(seq: &Sequence, batch: &mut SkewBatch) {
 pub fn trace_skew_batch_posed(seq: &Sequence, poses: &[Pose], batch: &mut SkewBatch) {
     #[cfg(target_arch = "x86_64")]
     {
+        if crate::simd::has_avx512f() {
+            // SAFETY: the processor has just been checked for AVX-512 F, AVX2 and FMA.
+            unsafe { trace_skew_batch_avx512_posed(seq, poses, batch) };
+            return;
+        }
         if crate::simd::has_avx2_fma() {
             // SAFETY: the processor has just been checked for AVX2 and FMA.
             unsafe { trace_skew_batch_avx2_posed(seq, poses, batch) };
@@ -233,9 +238,9 @@ pub fn trace_skew_batch_portable(seq: &Sequence, batch: &mut SkewBatch) {
 /// The portable loop with posed surfaces (see [`trace_skew_batch_posed`]).
 pub fn trace_skew_batch_portable_posed(seq: &Sequence, poses: &[Pose], batch: &mut SkewBatch) {
     #[cfg(target_arch = "x86_64")]
-    trace_blocks::<crate::simd::F64x2>(seq, poses, batch);
+    trace_blocks::<Pair<crate::simd::F64x2>, crate::simd::F64x2>(seq, poses, batch);
     #[cfg(not(target_arch = "x86_64"))]
-    trace_blocks::<f64>(seq, poses, batch);
+    trace_blocks::<Pair<f64>, f64>(seq, poses, batch);
 }
 
 /// The loop in four AVX lanes with fused multiply-add.
@@ -245,7 +250,31 @@ pub fn trace_skew_batch_portable_posed(seq: &Sequence, poses: &[Pose], batch: &m
 #[cfg(target_arch = "x86_64")]
 #[target_feature(enable = "avx2,fma")]
 pub unsafe fn trace_skew_batch_avx2(seq: &Sequence, batch: &mut SkewBatch) {
-    trace_blocks::<crate::simd::F64x4>(seq, &[], batch);
+    use crate::simd::F64x4;
+    trace_blocks::<Pair<F64x4>, F64x4>(seq, &[], batch);
+}
+
+/// The loop in eight AVX-512 lanes with fused multiply-add (four AVX lanes for the tail of a block): the
+/// same fused operations as [`trace_skew_batch_avx2`], so the two agree bit for bit.
+///
+/// # Safety
+/// The processor must support AVX-512 F, AVX2 and FMA.
+#[cfg(target_arch = "x86_64")]
+#[target_feature(enable = "avx512f,avx2,fma")]
+pub unsafe fn trace_skew_batch_avx512(seq: &Sequence, batch: &mut SkewBatch) {
+    // SAFETY: the caller vouches for the processor.
+    unsafe { trace_skew_batch_avx512_posed(seq, &[], batch) }
+}
+
+/// The eight-lane loop with posed surfaces.
+///
+/// # Safety
+/// The processor must support AVX-512 F, AVX2 and FMA.
+#[cfg(target_arch = "x86_64")]
+#[target_feature(enable = "avx512f,avx2,fma")]
+unsafe fn trace_skew_batch_avx512_posed(seq: &Sequence, poses: &[Pose], batch: &mut SkewBatch) {
+    use crate::simd::{F64x4, F64x8};
+    trace_blocks::<Pair<F64x8>, F64x4>(seq, poses, batch);
 }
 
 /// The loop in four AVX lanes with fused multiply-add, with posed surfaces.
@@ -255,14 +284,15 @@ pub unsafe fn trace_skew_batch_avx2(seq: &Sequence, batch: &mut SkewBatch) {
 #[cfg(target_arch = "x86_64")]
 #[target_feature(enable = "avx2,fma")]
 unsafe fn trace_skew_batch_avx2_posed(seq: &Sequence, poses: &[Pose], batch: &mut SkewBatch) {
-    trace_blocks::<crate::simd::F64x4>(seq, poses, batch);
+    use crate::simd::F64x4;
+    trace_blocks::<Pair<F64x4>, F64x4>(seq, poses, batch);
 }
 
 /// Rays per block: eight arrays of 384 rays (24 KiB) stay in the first-level cache.
 const BLOCK: usize = 384;
 
 #[inline(always)]
-fn trace_blocks<V: Lane>(seq: &Sequence, poses: &[Pose], batch: &mut SkewBatch) {
+fn trace_blocks<W: Lane, H: Lane>(seq: &Sequence, poses: &[Pose], batch: &mut SkewBatch) {
     let n = batch.len();
     let mut start = 0;
     while start < n {
@@ -284,7 +314,7 @@ fn trace_blocks<V: Lane>(seq: &Sequence, poses: &[Pose], batch: &mut SkewBatch) 
             if let Some(pose) = pose {
                 carry(&mut b, |p| pose.to_local_point(p), |d| pose.to_local_direction(d));
             }
-            with_kernel_form!(step, surface_loop::<V>(step, code, &mut b));
+            with_kernel_form!(step, surface_loop::<W, H>(step, code, &mut b));
             if let Some(pose) = pose {
                 carry(&mut b, |p| pose.to_world_point(p), |d| pose.to_world_direction(d));
             }
@@ -306,23 +336,25 @@ fn carry(
     }
 }
 
-/// One surface for every ray of a block: pairs of lane vectors first (two dependency chains side by side),
-/// then one lane vector, then the rest one ray at a time.
+/// One surface for every ray of a block: wide lane vectors `W` first (a [`Pair`] where two dependency
+/// chains side by side keep the processor busy), then narrow ones `H`, then the rest one ray at a time.
+/// Every build covers the same rays with vectors (all but the last `len % H::WIDTH`), so the fused builds
+/// agree with each other bit for bit.
 #[inline(always)]
-fn surface_loop<V: Lane, const SHAPE: u8, const ACTION: u8>(step: &Step, code: f64, b: &mut [&mut [f64]; 8]) {
+fn surface_loop<W: Lane, H: Lane, const SHAPE: u8, const ACTION: u8>(step: &Step, code: f64, b: &mut [&mut [f64]; 8]) {
     let n = b[0].len();
     // Every array cut to the same length n, so that the loop bound proves each lane index in bounds.
     let b = &mut b.each_mut().map(|a| &mut a[..n]);
     let mut i = 0;
-    let k2 = StepLanes::<Pair<V>>::new(step);
-    while i + 2 * V::WIDTH <= n {
-        lanes_at::<Pair<V>, SHAPE, ACTION>(&k2, step, code, b, i);
-        i += 2 * V::WIDTH;
+    let kw = StepLanes::<W>::new(step);
+    while i + W::WIDTH <= n {
+        lanes_at::<W, SHAPE, ACTION>(&kw, step, code, b, i);
+        i += W::WIDTH;
     }
-    let k = StepLanes::<V>::new(step);
-    while i + V::WIDTH <= n {
-        lanes_at::<V, SHAPE, ACTION>(&k, step, code, b, i);
-        i += V::WIDTH;
+    let kh = StepLanes::<H>::new(step);
+    while i + H::WIDTH <= n {
+        lanes_at::<H, SHAPE, ACTION>(&kh, step, code, b, i);
+        i += H::WIDTH;
     }
     let k1 = StepLanes::<f64>::new(step);
     while i < n {
@@ -425,5 +457,20 @@ mod tests {
             }
         }
         assert!(through > 5 && through < 101, "{through}");
+        // The AVX-512 loop runs the same fused multiply-adds as the AVX2 loop over the same rays in
+        // vectors (101 rays: eight-lane pairs, four-lane tails, one single ray): equal bit for bit.
+        #[cfg(target_arch = "x86_64")]
+        if crate::simd::has_avx512f() {
+            let mut wide = SkewBatch::with_capacity(101);
+            rays.iter().for_each(|r| wide.push(*r));
+            let mut narrow = wide.clone();
+            // SAFETY: the processor has just been checked for AVX-512 F, AVX2 and FMA.
+            unsafe {
+                trace_skew_batch_avx512(&seq, &mut wide);
+                trace_skew_batch_avx2(&seq, &mut narrow);
+            }
+            assert_eq!(wide, narrow);
+            assert_eq!(wide, fast);
+        }
     }
 }

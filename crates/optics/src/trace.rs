@@ -214,18 +214,18 @@ pub(crate) fn kernel_form(step: &Step) -> (u8, u8) {
 /// Calls `$f::<$V, SHAPE, ACTION>($args)` with the compiled form of the kernel that `$step` needs, so that
 /// each loop is compiled once per (shape, action) and chosen once per surface.
 macro_rules! with_kernel_form {
-    ($step:expr, $f:ident::<$V:ty>($($arg:expr),* $(,)?)) => {{
+    ($step:expr, $f:ident::<$($V:ty),+>($($arg:expr),* $(,)?)) => {{
         use $crate::trace::{CONIC, FLAT, IDEAL, REFLECT, REFRACT, SPHERE};
         match $crate::trace::kernel_form($step) {
-            (FLAT, REFRACT) => $f::<$V, FLAT, REFRACT>($($arg),*),
-            (FLAT, REFLECT) => $f::<$V, FLAT, REFLECT>($($arg),*),
-            (FLAT, _) => $f::<$V, FLAT, IDEAL>($($arg),*),
-            (SPHERE, REFRACT) => $f::<$V, SPHERE, REFRACT>($($arg),*),
-            (SPHERE, REFLECT) => $f::<$V, SPHERE, REFLECT>($($arg),*),
-            (SPHERE, _) => $f::<$V, SPHERE, IDEAL>($($arg),*),
-            (_, REFRACT) => $f::<$V, CONIC, REFRACT>($($arg),*),
-            (_, REFLECT) => $f::<$V, CONIC, REFLECT>($($arg),*),
-            (_, _) => $f::<$V, CONIC, IDEAL>($($arg),*),
+            (FLAT, REFRACT) => $f::<$($V),+, FLAT, REFRACT>($($arg),*),
+            (FLAT, REFLECT) => $f::<$($V),+, FLAT, REFLECT>($($arg),*),
+            (FLAT, _) => $f::<$($V),+, FLAT, IDEAL>($($arg),*),
+            (SPHERE, REFRACT) => $f::<$($V),+, SPHERE, REFRACT>($($arg),*),
+            (SPHERE, REFLECT) => $f::<$($V),+, SPHERE, REFLECT>($($arg),*),
+            (SPHERE, _) => $f::<$($V),+, SPHERE, IDEAL>($($arg),*),
+            (_, REFRACT) => $f::<$($V),+, CONIC, REFRACT>($($arg),*),
+            (_, REFLECT) => $f::<$($V),+, CONIC, REFLECT>($($arg),*),
+            (_, _) => $f::<$($V),+, CONIC, IDEAL>($($arg),*),
         }
     }};
 }
