@@ -202,6 +202,46 @@ impl SkewBatch {
     }
 }
 
+impl SkewBatch {
+    /// The RMS radius, mm, of the rays that got through, about their centroid, where each stands (after
+    /// a trace to a screen: the spot's RMS radius); `None` when no ray got through. Summed on every core
+    /// in blocks of a fixed size whose partial sums are added in block order, so the figure is the same
+    /// bit for bit whatever the thread count.
+    pub fn rms_radius_mm(&self) -> Option<f64> {
+        use rayon::prelude::*;
+        let n = self.len();
+        let blocks = n.div_ceil(SUM_BLOCK);
+        let through = |i: usize| self.fate[i] == 0.0 && self.x_mm[i].is_finite() && self.y_mm[i].is_finite();
+        let range = |b: usize| b * SUM_BLOCK..((b + 1) * SUM_BLOCK).min(n);
+        let sums: Vec<[f64; 3]> = (0..blocks)
+            .into_par_iter()
+            .map(|b| {
+                range(b)
+                    .filter(|&i| through(i))
+                    .fold([0.0; 3], |s, i| [s[0] + 1.0, s[1] + self.x_mm[i], s[2] + self.y_mm[i]])
+            })
+            .collect();
+        let [count, sx, sy] = sums.iter().fold([0.0; 3], |s, b| [s[0] + b[0], s[1] + b[1], s[2] + b[2]]);
+        if count == 0.0 {
+            return None;
+        }
+        let (cx, cy) = (sx / count, sy / count);
+        let squares: Vec<f64> = (0..blocks)
+            .into_par_iter()
+            .map(|b| {
+                range(b)
+                    .filter(|&i| through(i))
+                    .map(|i| (self.x_mm[i] - cx).powi(2) + (self.y_mm[i] - cy).powi(2))
+                    .sum()
+            })
+            .collect();
+        Some((squares.iter().sum::<f64>() / count).sqrt())
+    }
+}
+
+/// Rays per block of the spot's sums (fixed, so that the sums do not depend on the thread count).
+const SUM_BLOCK: usize = 16_384;
+
 /// Traces every ray of `batch` through `seq`, in place: four AVX lanes with fused multiply-add where the
 /// processor has them (intercepts then differ from the single-ray trace by rounding, ~1e-16 relative),
 /// else the portable loop.
@@ -214,20 +254,64 @@ pub fn trace_skew_batch(seq: &Sequence, batch: &mut SkewBatch) {
 /// carried into its local frame, and back after it; identity poses are skipped, so with no decentre or
 /// tilt this is [`trace_skew_batch`] bit for bit. The lane width is chosen as there.
 pub fn trace_skew_batch_posed(seq: &Sequence, poses: &[Pose], batch: &mut SkewBatch) {
+    dispatched(seq, poses, batch.arrays());
+}
+
+/// [`trace_skew_batch`] on every core: the batch is cut into pieces of a fixed number of whole blocks,
+/// which rayon traces in any order on any number of threads. Each ray is traced by the same loop over the
+/// same block as in [`trace_skew_batch`], so the result is the same bit for bit whatever the thread count.
+pub fn trace_skew_batch_par(seq: &Sequence, batch: &mut SkewBatch) {
+    use rayon::prelude::*;
+    let [x, y, z, k, m, l, opl, fate] = batch.arrays();
+    let pieces: Vec<[&mut [f64]; 8]> = x
+        .chunks_mut(PIECE)
+        .zip(y.chunks_mut(PIECE))
+        .zip(z.chunks_mut(PIECE))
+        .zip(k.chunks_mut(PIECE))
+        .zip(m.chunks_mut(PIECE))
+        .zip(l.chunks_mut(PIECE))
+        .zip(opl.chunks_mut(PIECE))
+        .zip(fate.chunks_mut(PIECE))
+        .map(|(((((((x, y), z), k), m), l), opl), fate)| [x, y, z, k, m, l, opl, fate])
+        .collect();
+    pieces.into_par_iter().for_each(|a| dispatched(seq, &[], a));
+}
+
+/// Rays per piece of a parallel trace: whole blocks, so that every block is the one of the serial trace.
+const PIECE: usize = 32 * BLOCK;
+
+/// The widest loop the processor runs, over one batch's arrays.
+fn dispatched(seq: &Sequence, poses: &[Pose], a: [&mut [f64]; 8]) {
     #[cfg(target_arch = "x86_64")]
     {
         if crate::simd::has_avx512f() {
             // SAFETY: the processor has just been checked for AVX-512 F, AVX2 and FMA.
-            unsafe { trace_skew_batch_avx512_posed(seq, poses, batch) };
+            unsafe { avx512_arrays(seq, poses, a) };
             return;
         }
         if crate::simd::has_avx2_fma() {
             // SAFETY: the processor has just been checked for AVX2 and FMA.
-            unsafe { trace_skew_batch_avx2_posed(seq, poses, batch) };
+            unsafe { avx2_arrays(seq, poses, a) };
             return;
         }
     }
-    trace_skew_batch_portable_posed(seq, poses, batch);
+    portable_arrays(seq, poses, a);
+}
+
+impl SkewBatch {
+    /// The eight arrays the loops read and write: x, y, z, k, m, l, optical path, fate.
+    fn arrays(&mut self) -> [&mut [f64]; 8] {
+        [
+            &mut self.x_mm,
+            &mut self.y_mm,
+            &mut self.z_mm,
+            &mut self.k,
+            &mut self.m,
+            &mut self.l,
+            &mut self.opl_mm,
+            &mut self.fate,
+        ]
+    }
 }
 
 /// The portable loop (SSE2 pairs on x86-64, one lane elsewhere), bit for bit the single-ray arithmetic.
@@ -237,21 +321,32 @@ pub fn trace_skew_batch_portable(seq: &Sequence, batch: &mut SkewBatch) {
 
 /// The portable loop with posed surfaces (see [`trace_skew_batch_posed`]).
 pub fn trace_skew_batch_portable_posed(seq: &Sequence, poses: &[Pose], batch: &mut SkewBatch) {
-    #[cfg(target_arch = "x86_64")]
-    trace_blocks::<Pair<crate::simd::F64x2>, crate::simd::F64x2>(seq, poses, batch);
-    #[cfg(not(target_arch = "x86_64"))]
-    trace_blocks::<Pair<f64>, f64>(seq, poses, batch);
+    portable_arrays(seq, poses, batch.arrays());
 }
 
-/// The loop in four AVX lanes with fused multiply-add.
+fn portable_arrays(seq: &Sequence, poses: &[Pose], a: [&mut [f64]; 8]) {
+    #[cfg(target_arch = "x86_64")]
+    trace_blocks::<Pair<crate::simd::F64x2>, crate::simd::F64x2>(seq, poses, a);
+    #[cfg(not(target_arch = "x86_64"))]
+    trace_blocks::<Pair<f64>, f64>(seq, poses, a);
+}
+
+/// The loop in four AVX lanes with fused multiply-add, two vectors side by side.
 ///
 /// # Safety
 /// The processor must support AVX2 and FMA.
 #[cfg(target_arch = "x86_64")]
 #[target_feature(enable = "avx2,fma")]
 pub unsafe fn trace_skew_batch_avx2(seq: &Sequence, batch: &mut SkewBatch) {
+    // SAFETY: the caller vouches for the processor.
+    unsafe { avx2_arrays(seq, &[], batch.arrays()) }
+}
+
+#[cfg(target_arch = "x86_64")]
+#[target_feature(enable = "avx2,fma")]
+unsafe fn avx2_arrays(seq: &Sequence, poses: &[Pose], a: [&mut [f64]; 8]) {
     use crate::simd::F64x4;
-    trace_blocks::<Pair<F64x4>, F64x4>(seq, &[], batch);
+    trace_blocks::<Pair<F64x4>, F64x4>(seq, poses, a);
 }
 
 /// The loop in eight AVX-512 lanes with fused multiply-add (four AVX lanes for the tail of a block): the
@@ -263,51 +358,26 @@ pub unsafe fn trace_skew_batch_avx2(seq: &Sequence, batch: &mut SkewBatch) {
 #[target_feature(enable = "avx512f,avx2,fma")]
 pub unsafe fn trace_skew_batch_avx512(seq: &Sequence, batch: &mut SkewBatch) {
     // SAFETY: the caller vouches for the processor.
-    unsafe { trace_skew_batch_avx512_posed(seq, &[], batch) }
+    unsafe { avx512_arrays(seq, &[], batch.arrays()) }
 }
 
-/// The eight-lane loop with posed surfaces.
-///
-/// # Safety
-/// The processor must support AVX-512 F, AVX2 and FMA.
 #[cfg(target_arch = "x86_64")]
 #[target_feature(enable = "avx512f,avx2,fma")]
-unsafe fn trace_skew_batch_avx512_posed(seq: &Sequence, poses: &[Pose], batch: &mut SkewBatch) {
+unsafe fn avx512_arrays(seq: &Sequence, poses: &[Pose], a: [&mut [f64]; 8]) {
     use crate::simd::{F64x4, F64x8};
-    trace_blocks::<Pair<F64x8>, F64x4>(seq, poses, batch);
-}
-
-/// The loop in four AVX lanes with fused multiply-add, with posed surfaces.
-///
-/// # Safety
-/// The processor must support AVX2 and FMA.
-#[cfg(target_arch = "x86_64")]
-#[target_feature(enable = "avx2,fma")]
-unsafe fn trace_skew_batch_avx2_posed(seq: &Sequence, poses: &[Pose], batch: &mut SkewBatch) {
-    use crate::simd::F64x4;
-    trace_blocks::<Pair<F64x4>, F64x4>(seq, poses, batch);
+    trace_blocks::<Pair<F64x8>, F64x4>(seq, poses, a);
 }
 
 /// Rays per block: eight arrays of 384 rays (24 KiB) stay in the first-level cache.
 const BLOCK: usize = 384;
 
 #[inline(always)]
-fn trace_blocks<W: Lane, H: Lane>(seq: &Sequence, poses: &[Pose], batch: &mut SkewBatch) {
-    let n = batch.len();
+fn trace_blocks<W: Lane, H: Lane>(seq: &Sequence, poses: &[Pose], mut a: [&mut [f64]; 8]) {
+    let n = a[0].len();
     let mut start = 0;
     while start < n {
         let end = (start + BLOCK).min(n);
-        let r = start..end;
-        let mut b = [
-            &mut batch.x_mm[r.clone()],
-            &mut batch.y_mm[r.clone()],
-            &mut batch.z_mm[r.clone()],
-            &mut batch.k[r.clone()],
-            &mut batch.m[r.clone()],
-            &mut batch.l[r.clone()],
-            &mut batch.opl_mm[r.clone()],
-            &mut batch.fate[r],
-        ];
+        let mut b = a.each_mut().map(|v| &mut v[start..end]);
         for (index, step) in seq.steps.iter().enumerate() {
             let code = 4.0 * (index as f64 + 1.0);
             let pose = poses.get(index).filter(|p| !p.is_identity());
@@ -410,6 +480,43 @@ pub(crate) fn hit3_error(h: &Hit3<f64>, index: usize) -> RayError {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    /// A parallel trace and its spot sums give the same bits on 1, 2 and 3 threads, equal to the serial
+    /// trace; rays parallel to the axis on a circle of radius 2 mm through a flat window to a flat screen
+    /// keep their circle, whose RMS radius about its centre is its radius (2 mm, analytic).
+    #[test]
+    fn parallel_trace_is_the_same_on_any_thread_count() {
+        let seq = System {
+            object_medium: Material::AIR,
+            surfaces: vec![
+                Surface::refracting(10.0, Shape::Flat, Material::Constant(1.5)).with_semi_aperture(5.0),
+                Surface::refracting(14.0, Shape::Flat, Material::AIR).with_semi_aperture(5.0),
+                Surface::aperture(30.0, 50.0),
+            ],
+        }
+        .at(550.0)
+        .unwrap();
+        let n = 70_001;
+        let mut start = SkewBatch::with_capacity(n);
+        for i in 0..n {
+            let phi = std::f64::consts::TAU * i as f64 / n as f64;
+            start.push(SkewRay::towards(
+                [2.0 * phi.cos(), 2.0 * phi.sin(), 0.0],
+                [2.0 * phi.cos(), 2.0 * phi.sin(), 1.0],
+            ));
+        }
+        let mut serial = start.clone();
+        trace_skew_batch(&seq, &mut serial);
+        let rms = serial.rms_radius_mm().unwrap();
+        assert!((rms - 2.0).abs() < 1e-12, "{rms}");
+        for threads in 1..=3 {
+            let pool = rayon::ThreadPoolBuilder::new().num_threads(threads).build().unwrap();
+            let mut par = start.clone();
+            pool.install(|| trace_skew_batch_par(&seq, &mut par));
+            assert_eq!(par, serial, "{threads} threads");
+            assert_eq!(pool.install(|| par.rms_radius_mm()).unwrap().to_bits(), rms.to_bits(), "{threads} threads");
+        }
+    }
     use crate::material::Material;
     use crate::skew::trace;
     use crate::system::{Shape, Surface, System};
