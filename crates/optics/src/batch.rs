@@ -140,17 +140,13 @@ impl RayBatch {
     }
 }
 
-/// The portable batch loop: SSE2 pairs on x86-64 (every x86-64 processor has them), one lane
-/// elsewhere. Its arithmetic is that of the single-ray trace, so the two agree bit for bit.
+/// The portable batch loop: pairs of `wide::f64x2` lanes (SSE2 on x86-64, NEON on 64-bit ARM). Its arithmetic is that of the single-ray trace, so the two agree bit for bit.
 pub fn trace_batch_portable(seq: &Sequence, batch: &mut RayBatch) {
     portable_arrays(seq, batch.arrays());
 }
 
 fn portable_arrays(seq: &Sequence, a: [&mut [f64]; 6]) {
-    #[cfg(target_arch = "x86_64")]
-    trace_blocks::<Pair<crate::simd::F64x2>, crate::simd::F64x2>(seq, a);
-    #[cfg(not(target_arch = "x86_64"))]
-    trace_blocks::<Pair<f64>, f64>(seq, a);
+    trace_blocks::<Pair<wide::f64x2>, wide::f64x2>(seq, a);
 }
 
 /// The batch loop in four AVX lanes with fused multiply-add, two vectors side by side.

@@ -1,5 +1,6 @@
 //! Lanes of f64: the one arithmetic vocabulary the ray kernel is written in, implemented for a plain f64
-//! (single rays), for SSE2 pairs (the portable x86-64 build) and for AVX2+FMA quadruples (chosen at run
+//! (single rays), for the portable pair `wide::f64x2` (SSE2 on x86-64, NEON on 64-bit ARM: the code the
+//! x86 tests run is the code ARM compiles), and for AVX2+FMA quadruples and AVX-512 octets (chosen at run
 //! time). The kernel is written once, generic over [`Lane`], so every build traces with the same formulas.
 
 use std::ops::{Add, BitAnd, BitOr, Div, Mul, Neg, Not, Sub};
@@ -267,22 +268,95 @@ impl<V: Lane> Lane for Pair<V> {
     }
 }
 
+/// The portable pair of lanes, from the `wide` crate: SSE2 on x86-64, NEON on 64-bit ARM, plain arrays
+/// elsewhere. Its multiply-add is not fused, so it agrees with the single-ray trace (`f64`) bit for bit.
+impl Lane for wide::f64x2 {
+    type Mask = wide::f64x2;
+    const WIDTH: usize = 2;
+    #[inline(always)]
+    fn splat(v: f64) -> wide::f64x2 {
+        wide::f64x2::splat(v)
+    }
+    #[inline(always)]
+    fn load(s: &[f64]) -> wide::f64x2 {
+        wide::f64x2::new([s[0], s[1]])
+    }
+    #[inline(always)]
+    fn store(self, s: &mut [f64]) {
+        s[..2].copy_from_slice(&self.to_array());
+    }
+    #[inline(always)]
+    fn sqrt(self) -> wide::f64x2 {
+        wide::f64x2::sqrt(self)
+    }
+    #[inline(always)]
+    fn abs(self) -> wide::f64x2 {
+        wide::f64x2::abs(self)
+    }
+    #[inline(always)]
+    fn copysign(self, sign: wide::f64x2) -> wide::f64x2 {
+        wide::f64x2::abs(self) | (wide::f64x2::splat(-0.0) & sign)
+    }
+    #[inline(always)]
+    fn signed_like(self, sign: wide::f64x2) -> wide::f64x2 {
+        self | (wide::f64x2::splat(-0.0) & sign)
+    }
+    #[inline(always)]
+    fn mul_add(self, b: wide::f64x2, c: wide::f64x2) -> wide::f64x2 {
+        // Not fused: the portable batch must agree bit for bit with single rays.
+        self * b + c
+    }
+    #[inline(always)]
+    fn lt(self, o: wide::f64x2) -> wide::f64x2 {
+        self.simd_lt(o)
+    }
+    #[inline(always)]
+    fn le(self, o: wide::f64x2) -> wide::f64x2 {
+        self.simd_le(o)
+    }
+    #[inline(always)]
+    fn gt(self, o: wide::f64x2) -> wide::f64x2 {
+        self.simd_gt(o)
+    }
+    #[inline(always)]
+    fn ge(self, o: wide::f64x2) -> wide::f64x2 {
+        self.simd_ge(o)
+    }
+    #[inline(always)]
+    fn eq(self, o: wide::f64x2) -> wide::f64x2 {
+        self.simd_eq(o)
+    }
+    #[inline(always)]
+    fn select(m: wide::f64x2, a: wide::f64x2, b: wide::f64x2) -> wide::f64x2 {
+        m.select(a, b)
+    }
+    #[inline(always)]
+    fn max0(self) -> wide::f64x2 {
+        // Where above zero, else +0 (also for NaN and -0), as the scalar form.
+        self.simd_gt(wide::f64x2::ZERO) & self
+    }
+    #[inline(always)]
+    fn only(m: wide::f64x2, v: wide::f64x2) -> wide::f64x2 {
+        m & v
+    }
+    #[inline(always)]
+    fn either(self, o: wide::f64x2) -> wide::f64x2 {
+        self | o
+    }
+    #[inline(always)]
+    fn all(m: wide::f64x2) -> bool {
+        m.all()
+    }
+}
+
 #[cfg(target_arch = "x86_64")]
-pub(crate) use x86::{F64x2, F64x4, F64x8};
+pub(crate) use x86::{F64x4, F64x8};
 
 #[cfg(target_arch = "x86_64")]
 mod x86 {
     use super::Lane;
     use std::arch::x86_64::*;
     use std::ops::{Add, BitAnd, BitOr, Div, Mul, Neg, Not, Sub};
-
-    /// Two f64 lanes in an SSE2 register (every x86-64 processor has SSE2).
-    #[derive(Clone, Copy)]
-    pub(crate) struct F64x2(__m128d);
-
-    /// A mask of two lanes: all bits set where true.
-    #[derive(Clone, Copy)]
-    pub(crate) struct M64x2(__m128d);
 
     macro_rules! binary {
         ($ty:ident, $tr:ident, $f:ident, $intr:ident) => {
@@ -291,7 +365,7 @@ mod x86 {
                 #[inline(always)]
                 fn $f(self, o: $ty) -> $ty {
                     // SAFETY: the intrinsic's target feature is enabled wherever this lane type is used
-                    // (SSE2 always on x86-64; AVX2 and FMA only inside functions compiled for them).
+                    // (AVX2 and FMA, or AVX-512 F, only inside functions compiled for them).
                     #[allow(unused_unsafe)]
                     unsafe {
                         $ty($intr(self.0, o.0))
@@ -299,131 +373,6 @@ mod x86 {
                 }
             }
         };
-    }
-
-    binary!(F64x2, Add, add, _mm_add_pd);
-    binary!(F64x2, Sub, sub, _mm_sub_pd);
-    binary!(F64x2, Mul, mul, _mm_mul_pd);
-    binary!(F64x2, Div, div, _mm_div_pd);
-    binary!(M64x2, BitAnd, bitand, _mm_and_pd);
-    binary!(M64x2, BitOr, bitor, _mm_or_pd);
-
-    impl Neg for F64x2 {
-        type Output = F64x2;
-        #[inline(always)]
-        fn neg(self) -> F64x2 {
-            // SAFETY: SSE2 is part of every x86-64 processor.
-            unsafe { F64x2(_mm_xor_pd(self.0, _mm_set1_pd(-0.0))) }
-        }
-    }
-
-    impl Not for M64x2 {
-        type Output = M64x2;
-        #[inline(always)]
-        fn not(self) -> M64x2 {
-            // SAFETY: SSE2 is part of every x86-64 processor.
-            unsafe { M64x2(_mm_xor_pd(self.0, _mm_castsi128_pd(_mm_set1_epi64x(-1)))) }
-        }
-    }
-
-    impl Lane for F64x2 {
-        type Mask = M64x2;
-        const WIDTH: usize = 2;
-        #[inline(always)]
-        fn splat(v: f64) -> F64x2 {
-            // SAFETY: SSE2 is part of every x86-64 processor.
-            unsafe { F64x2(_mm_set1_pd(v)) }
-        }
-        #[inline(always)]
-        fn load(s: &[f64]) -> F64x2 {
-            assert!(s.len() >= 2);
-            // SAFETY: two values are in bounds (checked above); unaligned loads are allowed.
-            F64x2(unsafe { _mm_loadu_pd(s.as_ptr()) })
-        }
-        #[inline(always)]
-        fn store(self, s: &mut [f64]) {
-            assert!(s.len() >= 2);
-            // SAFETY: two values are in bounds (checked above).
-            unsafe { _mm_storeu_pd(s.as_mut_ptr(), self.0) }
-        }
-        #[inline(always)]
-        fn sqrt(self) -> F64x2 {
-            // SAFETY: SSE2 is part of every x86-64 processor.
-            unsafe { F64x2(_mm_sqrt_pd(self.0)) }
-        }
-        #[inline(always)]
-        fn abs(self) -> F64x2 {
-            // SAFETY: SSE2 is part of every x86-64 processor.
-            unsafe { F64x2(_mm_andnot_pd(_mm_set1_pd(-0.0), self.0)) }
-        }
-        #[inline(always)]
-        fn copysign(self, sign: F64x2) -> F64x2 {
-            // SAFETY: SSE2 is part of every x86-64 processor.
-            unsafe {
-                let s = _mm_set1_pd(-0.0);
-                F64x2(_mm_or_pd(_mm_andnot_pd(s, self.0), _mm_and_pd(s, sign.0)))
-            }
-        }
-        #[inline(always)]
-        fn signed_like(self, sign: F64x2) -> F64x2 {
-            // SAFETY: SSE2 is part of every x86-64 processor.
-            unsafe { F64x2(_mm_or_pd(self.0, _mm_and_pd(_mm_set1_pd(-0.0), sign.0))) }
-        }
-        #[inline(always)]
-        fn mul_add(self, b: F64x2, c: F64x2) -> F64x2 {
-            self * b + c
-        }
-        #[inline(always)]
-        fn lt(self, o: F64x2) -> M64x2 {
-            // SAFETY: SSE2 is part of every x86-64 processor.
-            unsafe { M64x2(_mm_cmplt_pd(self.0, o.0)) }
-        }
-        #[inline(always)]
-        fn le(self, o: F64x2) -> M64x2 {
-            // SAFETY: SSE2 is part of every x86-64 processor.
-            unsafe { M64x2(_mm_cmple_pd(self.0, o.0)) }
-        }
-        #[inline(always)]
-        fn gt(self, o: F64x2) -> M64x2 {
-            // SAFETY: SSE2 is part of every x86-64 processor.
-            unsafe { M64x2(_mm_cmpgt_pd(self.0, o.0)) }
-        }
-        #[inline(always)]
-        fn ge(self, o: F64x2) -> M64x2 {
-            // SAFETY: SSE2 is part of every x86-64 processor.
-            unsafe { M64x2(_mm_cmpge_pd(self.0, o.0)) }
-        }
-        #[inline(always)]
-        fn eq(self, o: F64x2) -> M64x2 {
-            // SAFETY: SSE2 is part of every x86-64 processor.
-            unsafe { M64x2(_mm_cmpeq_pd(self.0, o.0)) }
-        }
-        #[inline(always)]
-        fn max0(self) -> F64x2 {
-            // SAFETY: SSE2 is part of every x86-64 processor. maxpd returns its second operand (+0)
-            // when the first is NaN or ±0, as the scalar form does.
-            unsafe { F64x2(_mm_max_pd(self.0, _mm_setzero_pd())) }
-        }
-        #[inline(always)]
-        fn only(m: M64x2, v: F64x2) -> F64x2 {
-            // SAFETY: SSE2 is part of every x86-64 processor.
-            unsafe { F64x2(_mm_and_pd(m.0, v.0)) }
-        }
-        #[inline(always)]
-        fn either(self, o: F64x2) -> F64x2 {
-            // SAFETY: SSE2 is part of every x86-64 processor.
-            unsafe { F64x2(_mm_or_pd(self.0, o.0)) }
-        }
-        #[inline(always)]
-        fn all(m: M64x2) -> bool {
-            // SAFETY: SSE2 is part of every x86-64 processor.
-            unsafe { _mm_movemask_pd(m.0) == 0b11 }
-        }
-        #[inline(always)]
-        fn select(m: M64x2, a: F64x2, b: F64x2) -> F64x2 {
-            // SAFETY: SSE2 is part of every x86-64 processor.
-            unsafe { F64x2(_mm_or_pd(_mm_and_pd(m.0, a.0), _mm_andnot_pd(m.0, b.0))) }
-        }
     }
 
     /// Four f64 lanes in an AVX register, with fused multiply-add. Use only inside functions compiled with

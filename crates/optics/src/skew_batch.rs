@@ -314,7 +314,8 @@ impl SkewBatch {
     }
 }
 
-/// The portable loop (SSE2 pairs on x86-64, one lane elsewhere), bit for bit the single-ray arithmetic.
+/// The portable loop (pairs of `wide::f64x2`: SSE2 on x86-64, NEON on 64-bit ARM), bit for bit the
+/// single-ray arithmetic.
 pub fn trace_skew_batch_portable(seq: &Sequence, batch: &mut SkewBatch) {
     trace_skew_batch_portable_posed(seq, &[], batch);
 }
@@ -325,10 +326,7 @@ pub fn trace_skew_batch_portable_posed(seq: &Sequence, poses: &[Pose], batch: &m
 }
 
 fn portable_arrays(seq: &Sequence, poses: &[Pose], a: [&mut [f64]; 8]) {
-    #[cfg(target_arch = "x86_64")]
-    trace_blocks::<Pair<crate::simd::F64x2>, crate::simd::F64x2>(seq, poses, a);
-    #[cfg(not(target_arch = "x86_64"))]
-    trace_blocks::<Pair<f64>, f64>(seq, poses, a);
+    trace_blocks::<Pair<wide::f64x2>, wide::f64x2>(seq, poses, a);
 }
 
 /// The loop in four AVX lanes with fused multiply-add, two vectors side by side.
