@@ -5,15 +5,15 @@
 
 use criterion::{BatchSize, Criterion, Throughput, criterion_group, criterion_main};
 use lumenrail_optics::analysis::{Request, analyse};
-#[cfg(target_arch = "x86_64")]
-use lumenrail_optics::batch::trace_batch_avx2;
 use lumenrail_optics::batch::{RayBatch, trace_batch, trace_batch_portable};
+#[cfg(target_arch = "x86_64")]
+use lumenrail_optics::batch::{trace_batch_avx2, trace_batch_avx512};
 use lumenrail_optics::material::Material;
 use lumenrail_optics::paraxial::Object;
 use lumenrail_optics::skew::SkewRay;
+use lumenrail_optics::skew_batch::{SkewBatch, trace_skew_batch, trace_skew_batch_par, trace_skew_batch_portable};
 #[cfg(target_arch = "x86_64")]
-use lumenrail_optics::skew_batch::trace_skew_batch_avx2;
-use lumenrail_optics::skew_batch::{SkewBatch, trace_skew_batch, trace_skew_batch_portable};
+use lumenrail_optics::skew_batch::{trace_skew_batch_avx2, trace_skew_batch_avx512};
 use lumenrail_optics::system::{Sequence, Shape, Surface, System};
 use lumenrail_optics::trace::Ray;
 use std::hint::black_box;
@@ -22,6 +22,11 @@ const RAYS: usize = 1_000_000;
 
 /// Five spherical singlets (10 surfaces), 25 mm clear aperture, indices 1.52 and 1.62.
 fn ten_surfaces() -> Sequence {
+    System { object_medium: Material::AIR, surfaces: ten_surface_list() }.at(587.5618).unwrap()
+}
+
+/// The surfaces of [`ten_surfaces`].
+fn ten_surface_list() -> Vec<Surface> {
     let mut surfaces = Vec::new();
     for i in 0..5 {
         let z = 20.0 + 40.0 * i as f64;
@@ -29,7 +34,7 @@ fn ten_surfaces() -> Sequence {
         surfaces.push(Surface::refracting(z, Shape::sphere(80.0), Material::Constant(n)).with_semi_aperture(12.5));
         surfaces.push(Surface::refracting(z + 5.0, Shape::sphere(-120.0), Material::AIR).with_semi_aperture(12.5));
     }
-    System { object_medium: Material::AIR, surfaces }.at(587.5618).unwrap()
+    surfaces
 }
 
 /// Rays evenly spread over ±`half_height_mm` at the first surface (±6 mm: every ray passes the 12.5 mm
@@ -59,6 +64,17 @@ fn batch_trace(c: &mut Criterion) {
         g.bench_function("avx2_1e6_rays_10_surfaces", |b| {
             // SAFETY: AVX2 and FMA were just detected.
             b.iter_batched_ref(fresh, |work| unsafe { trace_batch_avx2(&seq, black_box(work)) }, BatchSize::LargeInput)
+        });
+    }
+    #[cfg(target_arch = "x86_64")]
+    if std::arch::is_x86_feature_detected!("avx512f") && std::arch::is_x86_feature_detected!("fma") {
+        g.bench_function("avx512_1e6_rays_10_surfaces", |b| {
+            // SAFETY: AVX-512 F and FMA were just detected (AVX2 comes with AVX-512 F).
+            b.iter_batched_ref(
+                fresh,
+                |work| unsafe { trace_batch_avx512(&seq, black_box(work)) },
+                BatchSize::LargeInput,
+            )
         });
     }
     g.bench_function("dispatched_1e6_rays_10_surfaces_37pc_blocked", |b| {
@@ -101,9 +117,54 @@ fn skew_batch_trace(c: &mut Criterion) {
             )
         });
     }
+    #[cfg(target_arch = "x86_64")]
+    if std::arch::is_x86_feature_detected!("avx512f") && std::arch::is_x86_feature_detected!("fma") {
+        g.bench_function("avx512_1e6_rays_10_surfaces", |b| {
+            // SAFETY: AVX-512 F and FMA were just detected (AVX2 comes with AVX-512 F).
+            b.iter_batched_ref(
+                fresh,
+                |work| unsafe { trace_skew_batch_avx512(&seq, black_box(work)) },
+                BatchSize::LargeInput,
+            )
+        });
+    }
     g.bench_function("portable_1e6_rays_10_surfaces", |b| {
         b.iter_batched_ref(fresh, |work| trace_skew_batch_portable(&seq, black_box(work)), BatchSize::LargeInput)
     });
+    g.finish();
+}
+
+/// A spot of 10^7 skew rays (the 1e6-ray bundle's pattern, ten times as dense) through the ten surfaces
+/// to a screen, and its RMS radius: traced by `trace_skew_batch_par` in fixed pieces and summed in fixed
+/// blocks, on one thread and on two (one per core here).
+fn large_spot(c: &mut Criterion) {
+    let mut surfaces = ten_surface_list();
+    surfaces.push(Surface::aperture(260.0, 60.0));
+    let seq = System { object_medium: Material::AIR, surfaces }.at(587.5618).unwrap();
+    let n = 10 * RAYS;
+    let mut template = SkewBatch::with_capacity(n);
+    for i in 0..n {
+        let (r, phi) = (6.0 * (i as f64 / n as f64).sqrt(), 2.399_963 * i as f64);
+        template.push(SkewRay::towards([0.0, -3.0, 0.0], [r * phi.sin(), r * phi.cos(), 20.0]));
+    }
+    let mut g = c.benchmark_group("spot_1e7_skew_rays_11_surfaces");
+    g.throughput(Throughput::Elements((n * seq.steps.len()) as u64));
+    g.sample_size(10);
+    for threads in [1, 2] {
+        let pool = rayon::ThreadPoolBuilder::new().num_threads(threads).build().unwrap();
+        g.bench_function(format!("{threads}_threads"), |b| {
+            b.iter_batched_ref(
+                || template.clone(),
+                |work| {
+                    pool.install(|| {
+                        trace_skew_batch_par(&seq, black_box(work));
+                        black_box(work.rms_radius_mm())
+                    })
+                },
+                BatchSize::LargeInput,
+            )
+        });
+    }
     g.finish();
 }
 
@@ -141,5 +202,5 @@ fn whole_evaluation(c: &mut Criterion) {
     });
 }
 
-criterion_group!(benches, batch_trace, skew_batch_trace, whole_evaluation);
+criterion_group!(benches, batch_trace, skew_batch_trace, large_spot, whole_evaluation);
 criterion_main!(benches);

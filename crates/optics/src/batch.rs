@@ -5,7 +5,7 @@
 //! processors with AVX2 the same loop is compiled a second time for 4-wide vectors and chosen at run time;
 //! what ships runs on any x86-64 or ARM64 computer.
 
-use crate::simd::Lane;
+use crate::simd::{Lane, Pair};
 use crate::system::{Kind, Sequence, Step};
 use crate::trace::{FATE_BLOCKED, IDEAL, Ray, RayError, StepLanes, fate_error, hit, ideal_lens_path, with_kernel_form};
 
@@ -86,37 +86,104 @@ impl RayBatch {
 /// Traces every ray of `batch` through `seq`, in place. A ray that is stopped keeps its last good values
 /// and records where and why; see [`RayBatch::outcome`].
 ///
-/// On x86-64 processors with AVX2 and FMA the four-lane loop runs (it may round a fused multiply-add
-/// differently from [`crate::trace::trace`], by about 1e-16 relative); elsewhere the portable loop.
+/// The widest loop this processor runs is chosen at run time: on x86-64 with AVX-512 F the eight-lane
+/// loop, else with AVX2 and FMA the four-lane one (the two agree bit for bit; both may round a fused
+/// multiply-add differently from [`crate::trace::trace`], by about 1e-16 relative); elsewhere the portable
+/// loop.
 pub fn trace_batch(seq: &Sequence, batch: &mut RayBatch) {
+    dispatched(seq, batch.arrays());
+}
+
+/// [`trace_batch`] on every core: the batch is cut into pieces of a fixed number of whole blocks, which
+/// rayon traces in any order on any number of threads. Each ray is traced by the same loop over the same
+/// block as in [`trace_batch`], so the result is the same bit for bit whatever the thread count.
+pub fn trace_batch_par(seq: &Sequence, batch: &mut RayBatch) {
+    use rayon::prelude::*;
+    let [y, z, m, l, opl, fate] = batch.arrays();
+    let pieces: Vec<[&mut [f64]; 6]> = y
+        .chunks_mut(PIECE)
+        .zip(z.chunks_mut(PIECE))
+        .zip(m.chunks_mut(PIECE))
+        .zip(l.chunks_mut(PIECE))
+        .zip(opl.chunks_mut(PIECE))
+        .zip(fate.chunks_mut(PIECE))
+        .map(|(((((y, z), m), l), opl), fate)| [y, z, m, l, opl, fate])
+        .collect();
+    pieces.into_par_iter().for_each(|a| dispatched(seq, a));
+}
+
+/// Rays per piece of a parallel trace: whole blocks, so that every block is the one of the serial trace.
+const PIECE: usize = 32 * BLOCK;
+
+/// The widest loop the processor runs, over one batch's arrays.
+fn dispatched(seq: &Sequence, a: [&mut [f64]; 6]) {
     #[cfg(target_arch = "x86_64")]
     {
+        if crate::simd::has_avx512f() {
+            // SAFETY: the processor has just been checked for AVX-512 F, AVX2 and FMA.
+            unsafe { avx512_arrays(seq, a) };
+            return;
+        }
         if crate::simd::has_avx2_fma() {
             // SAFETY: the processor has just been checked for AVX2 and FMA.
-            unsafe { trace_batch_avx2(seq, batch) };
+            unsafe { avx2_arrays(seq, a) };
             return;
         }
     }
-    trace_batch_portable(seq, batch);
+    portable_arrays(seq, a);
 }
 
-/// The portable batch loop: two SSE2 lanes on x86-64 (every x86-64 processor has them), one lane
-/// elsewhere. Its arithmetic is that of the single-ray trace, so the two agree bit for bit.
+impl RayBatch {
+    /// The six arrays the loops read and write: y, z, m, l, optical path, fate.
+    fn arrays(&mut self) -> [&mut [f64]; 6] {
+        [&mut self.y_mm, &mut self.z_mm, &mut self.m, &mut self.l, &mut self.opl_mm, &mut self.fate]
+    }
+}
+
+/// The portable batch loop: pairs of `wide::f64x2` lanes (SSE2 on x86-64, NEON on 64-bit ARM). Its arithmetic is that of the single-ray trace, so the two agree bit for bit.
 pub fn trace_batch_portable(seq: &Sequence, batch: &mut RayBatch) {
-    #[cfg(target_arch = "x86_64")]
-    trace_blocks::<crate::simd::F64x2>(seq, batch);
-    #[cfg(not(target_arch = "x86_64"))]
-    trace_blocks::<f64>(seq, batch);
+    portable_arrays(seq, batch.arrays());
 }
 
-/// The batch loop in four AVX lanes with fused multiply-add.
+fn portable_arrays(seq: &Sequence, a: [&mut [f64]; 6]) {
+    trace_blocks::<Pair<wide::f64x2>, wide::f64x2>(seq, a);
+}
+
+/// The batch loop in four AVX lanes with fused multiply-add, two vectors side by side.
 ///
 /// # Safety
 /// The processor must support AVX2 and FMA.
 #[cfg(target_arch = "x86_64")]
 #[target_feature(enable = "avx2,fma")]
 pub unsafe fn trace_batch_avx2(seq: &Sequence, batch: &mut RayBatch) {
-    trace_blocks::<crate::simd::F64x4>(seq, batch);
+    // SAFETY: the caller vouches for the processor.
+    unsafe { avx2_arrays(seq, batch.arrays()) }
+}
+
+#[cfg(target_arch = "x86_64")]
+#[target_feature(enable = "avx2,fma")]
+unsafe fn avx2_arrays(seq: &Sequence, a: [&mut [f64]; 6]) {
+    use crate::simd::F64x4;
+    trace_blocks::<Pair<F64x4>, F64x4>(seq, a);
+}
+
+/// The batch loop in eight AVX-512 lanes with fused multiply-add (four AVX lanes for the tail of a
+/// block): the same fused operations as [`trace_batch_avx2`], so the two agree bit for bit.
+///
+/// # Safety
+/// The processor must support AVX-512 F, AVX2 and FMA.
+#[cfg(target_arch = "x86_64")]
+#[target_feature(enable = "avx512f,avx2,fma")]
+pub unsafe fn trace_batch_avx512(seq: &Sequence, batch: &mut RayBatch) {
+    // SAFETY: the caller vouches for the processor.
+    unsafe { avx512_arrays(seq, batch.arrays()) }
+}
+
+#[cfg(target_arch = "x86_64")]
+#[target_feature(enable = "avx512f,avx2,fma")]
+unsafe fn avx512_arrays(seq: &Sequence, a: [&mut [f64]; 6]) {
+    use crate::simd::{F64x4, F64x8};
+    trace_blocks::<Pair<F64x8>, F64x4>(seq, a);
 }
 
 /// Rays per block: a block's six arrays (24 KiB) stay in the first-level cache while it crosses every
@@ -124,22 +191,23 @@ pub unsafe fn trace_batch_avx2(seq: &Sequence, batch: &mut RayBatch) {
 const BLOCK: usize = 512;
 
 #[inline(always)]
-fn trace_blocks<V: Lane>(seq: &Sequence, batch: &mut RayBatch) {
-    let n = batch.len();
+fn trace_blocks<W: Lane, H: Lane>(seq: &Sequence, a: [&mut [f64]; 6]) {
+    let [y, z, m, l, opl, fate] = a;
+    let n = y.len();
     let mut start = 0;
     while start < n {
         let end = (start + BLOCK).min(n);
         let mut lanes = Block {
-            y: &mut batch.y_mm[start..end],
-            z: &mut batch.z_mm[start..end],
-            m: &mut batch.m[start..end],
-            l: &mut batch.l[start..end],
-            opl: &mut batch.opl_mm[start..end],
-            fate: &mut batch.fate[start..end],
+            y: &mut y[start..end],
+            z: &mut z[start..end],
+            m: &mut m[start..end],
+            l: &mut l[start..end],
+            opl: &mut opl[start..end],
+            fate: &mut fate[start..end],
         };
         for (index, step) in seq.steps.iter().enumerate() {
             let code = 4.0 * (index as f64 + 1.0);
-            with_kernel_form!(step, surface_loop::<V>(step, code, &mut lanes));
+            with_kernel_form!(step, surface_loop::<W, H>(step, code, &mut lanes));
         }
         start = end;
     }
@@ -155,16 +223,32 @@ struct Block<'a> {
     fate: &'a mut [f64],
 }
 
-/// One surface for every ray of a block: whole lane vectors first, then the rest one ray at a time.
+/// One surface for every ray of a block: wide lane vectors `W` first (a [`Pair`] where two dependency
+/// chains side by side keep the processor busy), then narrow ones `H`, then the rest one ray at a time.
+/// Every build covers the same rays with vectors (all but the last `len % H::WIDTH`), so the fused builds
+/// agree with each other bit for bit.
 #[inline(always)]
-fn surface_loop<V: Lane, const SHAPE: u8, const ACTION: u8>(step: &Step, code: f64, b: &mut Block<'_>) {
+fn surface_loop<W: Lane, H: Lane, const SHAPE: u8, const ACTION: u8>(step: &Step, code: f64, b: &mut Block<'_>) {
     let n = b.y.len();
-    let whole = n - n % V::WIDTH;
+    // Every array cut to the same length n, so that the loop bound proves each lane index in bounds.
+    let b = &mut Block {
+        y: &mut b.y[..n],
+        z: &mut b.z[..n],
+        m: &mut b.m[..n],
+        l: &mut b.l[..n],
+        opl: &mut b.opl[..n],
+        fate: &mut b.fate[..n],
+    };
     let mut i = 0;
-    let k = StepLanes::<V>::new(step);
-    while i < whole {
-        lanes_at::<V, SHAPE, ACTION>(&k, step, code, b, i);
-        i += V::WIDTH;
+    let kw = StepLanes::<W>::new(step);
+    while i + W::WIDTH <= n {
+        lanes_at::<W, SHAPE, ACTION>(&kw, step, code, b, i);
+        i += W::WIDTH;
+    }
+    let kh = StepLanes::<H>::new(step);
+    while i + H::WIDTH <= n {
+        lanes_at::<H, SHAPE, ACTION>(&kh, step, code, b, i);
+        i += H::WIDTH;
     }
     let k1 = StepLanes::<f64>::new(step);
     while i < n {
@@ -184,8 +268,8 @@ fn lanes_at<V: Lane, const SHAPE: u8, const ACTION: u8>(
     let w = V::WIDTH;
     let (y, z, m, l) =
         (V::load(&b.y[i..i + w]), V::load(&b.z[i..i + w]), V::load(&b.m[i..i + w]), V::load(&b.l[i..i + w]));
-    let (opl, fate) = (V::load(&b.opl[i..i + w]), V::load(&b.fate[i..i + w]));
     let h = hit::<V, SHAPE, ACTION>(k, y, z, m, l);
+    let (opl, fate) = (V::load(&b.opl[i..i + w]), V::load(&b.fate[i..i + w]));
     let zero = V::splat(0.0);
     let alive = fate.eq(zero);
     let through = h.through();
@@ -204,6 +288,11 @@ fn lanes_at<V: Lane, const SHAPE: u8, const ACTION: u8>(
         (opl + path).store(&mut b.opl[i..i + w]);
         return;
     }
+    // The old values are read again here rather than kept in registers through the whole surface: an
+    // index the compiler cannot follow makes it load them anew instead of spilling them on the usual path.
+    let i = std::hint::black_box(i);
+    let (y, z, m, l) =
+        (V::load(&b.y[i..i + w]), V::load(&b.z[i..i + w]), V::load(&b.m[i..i + w]), V::load(&b.l[i..i + w]));
     let code_now = h.fate();
     // Blocked rays move to the surface that blocked them (for drawing); others keep their place.
     let moved = ok | (alive & code_now.eq(V::splat(FATE_BLOCKED)));
@@ -261,6 +350,34 @@ mod tests {
     use crate::system::{Shape, Surface, System};
     use crate::trace::trace;
 
+    /// The parallel trace gives the serial trace's bits on 1, 2 and 3 threads (70 001 rays: several
+    /// pieces, the last one ragged), through a sphere, a conicoid and an aperture that blocks some rays.
+    #[test]
+    fn parallel_trace_is_the_same_on_any_thread_count() {
+        let seq = System {
+            object_medium: Material::AIR,
+            surfaces: vec![
+                Surface::refracting(10.0, Shape::sphere(40.0), Material::Constant(1.6)).with_semi_aperture(8.0),
+                Surface::refracting(15.0, Shape::conic(-60.0, -0.7), Material::AIR).with_semi_aperture(8.0),
+                Surface::aperture(40.0, 3.0),
+            ],
+        }
+        .at(550.0)
+        .unwrap();
+        let n = 70_001;
+        let mut start = RayBatch::with_capacity(n);
+        (0..n).for_each(|i| start.push(Ray::at_angle(-9.0 + 18.0 * i as f64 / n as f64, 0.0, 0.01)));
+        let mut serial = start.clone();
+        trace_batch(&seq, &mut serial);
+        assert!(serial.survivors() > 0 && serial.survivors() < n);
+        for threads in 1..=3 {
+            let pool = rayon::ThreadPoolBuilder::new().num_threads(threads).build().unwrap();
+            let mut par = start.clone();
+            pool.install(|| trace_batch_par(&seq, &mut par));
+            assert_eq!(par, serial, "{threads} threads");
+        }
+    }
+
     #[test]
     fn batch_equals_the_single_ray_trace() {
         let system = System {
@@ -299,5 +416,36 @@ mod tests {
             }
         }
         assert!(batch.survivors() > 0 && batch.survivors() < 64);
+    }
+
+    /// The AVX-512 loop runs the same fused multiply-adds as the AVX2 loop, over the same rays in vectors
+    /// (67 rays: eight-lane pairs, a four-lane tail and three single rays), so the two agree bit for bit.
+    #[cfg(target_arch = "x86_64")]
+    #[test]
+    fn avx512_equals_avx2_bit_for_bit() {
+        if !crate::simd::has_avx512f() {
+            return;
+        }
+        let system = System {
+            object_medium: Material::AIR,
+            surfaces: vec![
+                Surface::refracting(10.0, Shape::sphere(40.0), Material::Constant(1.6)).with_semi_aperture(8.0),
+                Surface::refracting(15.0, Shape::conic(-60.0, -0.7), Material::AIR).with_semi_aperture(8.0),
+                Surface::ideal_lens(30.0, 80.0),
+                Surface::mirror(60.0, Shape::sphere(-200.0)),
+                Surface::aperture(40.0, 3.0),
+            ],
+        };
+        let seq = system.at(550.0).unwrap();
+        let mut wide = RayBatch::with_capacity(67);
+        (0..67).for_each(|i| wide.push(Ray::at_angle(-9.0 + 18.0 * i as f64 / 66.0, 0.0, 0.01)));
+        let mut narrow = wide.clone();
+        // SAFETY: the processor has just been checked for AVX-512 F, AVX2 and FMA.
+        unsafe {
+            trace_batch_avx512(&seq, &mut wide);
+            trace_batch_avx2(&seq, &mut narrow);
+        }
+        assert!(wide.survivors() > 0 && wide.survivors() < 67);
+        assert_eq!(wide, narrow);
     }
 }

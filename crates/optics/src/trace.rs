@@ -214,18 +214,18 @@ pub(crate) fn kernel_form(step: &Step) -> (u8, u8) {
 /// Calls `$f::<$V, SHAPE, ACTION>($args)` with the compiled form of the kernel that `$step` needs, so that
 /// each loop is compiled once per (shape, action) and chosen once per surface.
 macro_rules! with_kernel_form {
-    ($step:expr, $f:ident::<$V:ty>($($arg:expr),* $(,)?)) => {{
+    ($step:expr, $f:ident::<$($V:ty),+>($($arg:expr),* $(,)?)) => {{
         use $crate::trace::{CONIC, FLAT, IDEAL, REFLECT, REFRACT, SPHERE};
         match $crate::trace::kernel_form($step) {
-            (FLAT, REFRACT) => $f::<$V, FLAT, REFRACT>($($arg),*),
-            (FLAT, REFLECT) => $f::<$V, FLAT, REFLECT>($($arg),*),
-            (FLAT, _) => $f::<$V, FLAT, IDEAL>($($arg),*),
-            (SPHERE, REFRACT) => $f::<$V, SPHERE, REFRACT>($($arg),*),
-            (SPHERE, REFLECT) => $f::<$V, SPHERE, REFLECT>($($arg),*),
-            (SPHERE, _) => $f::<$V, SPHERE, IDEAL>($($arg),*),
-            (_, REFRACT) => $f::<$V, CONIC, REFRACT>($($arg),*),
-            (_, REFLECT) => $f::<$V, CONIC, REFLECT>($($arg),*),
-            (_, _) => $f::<$V, CONIC, IDEAL>($($arg),*),
+            (FLAT, REFRACT) => $f::<$($V),+, FLAT, REFRACT>($($arg),*),
+            (FLAT, REFLECT) => $f::<$($V),+, FLAT, REFLECT>($($arg),*),
+            (FLAT, _) => $f::<$($V),+, FLAT, IDEAL>($($arg),*),
+            (SPHERE, REFRACT) => $f::<$($V),+, SPHERE, REFRACT>($($arg),*),
+            (SPHERE, REFLECT) => $f::<$($V),+, SPHERE, REFLECT>($($arg),*),
+            (SPHERE, _) => $f::<$($V),+, SPHERE, IDEAL>($($arg),*),
+            (_, REFRACT) => $f::<$($V),+, CONIC, REFRACT>($($arg),*),
+            (_, REFLECT) => $f::<$($V),+, CONIC, REFLECT>($($arg),*),
+            (_, _) => $f::<$($V),+, CONIC, IDEAL>($($arg),*),
         }
     }};
 }
@@ -243,34 +243,31 @@ pub(crate) fn hit<V: Lane, const SHAPE: u8, const ACTION: u8>(k: &StepLanes<V>, 
     let zero = V::splat(0.0);
     let one = V::splat(1.0);
     let s0 = z - k.z_vertex;
-    let (t, met) = if SHAPE == FLAT {
-        (-s0 / l, !l.eq(zero))
+    // w = 1 − c(1+k)s at the intercept: positive on the sheet that holds the vertex, and the z component of
+    // the (unnormalised) normal there.
+    let (t, met, w) = if SHAPE == FLAT {
+        (-s0 / l, !l.eq(zero), one)
     } else {
         let a = (k.ck * l).mul_add(l, k.c * m * m);
         let b = (k.ck * s0).mul_add(l, (k.c * y).mul_add(m, -l));
         let f = (k.ck * s0).mul_add(s0, (k.c * y).mul_add(y, V::splat(-2.0) * s0));
         let disc = b.mul_add(b, -(a * f));
         let q = disc.max0().sqrt();
-        let d = -b + q.copysign(-b);
-        // Both roots from one division: t1 = f/d and t2 = d/a share the reciprocal of d·a.
-        let r = one / (d * a);
-        let mut t1 = f * a * r;
-        let mut t2 = d * d * r;
-        if SHAPE == CONIC {
-            // A conicoid's a can vanish for one ray direction: then the only root is f/d.
-            let flat_a = a.eq(zero);
-            t1 = V::select(flat_a, f / d, t1);
-            t2 = V::select(flat_a, V::splat(f64::INFINITY), t2);
-        }
-        let near_ok = (one - k.ck * t1.mul_add(l, s0)).gt(zero);
+        let d = -b + q.signed_like(-b);
+        // The far root d/a is needed only when some lane's first root lands on the far sheet.
+        let t1 = f / d;
+        let w1 = one - k.ck * t1.mul_add(l, s0);
+        let near_ok = w1.gt(zero);
         let finite = |t: V| t.abs().lt(V::splat(f64::INFINITY));
         if V::all(near_ok) {
             // The usual case: every lane meets the sheet that holds the vertex at the first root.
-            (t1, disc.ge(zero) & finite(t1))
+            (t1, disc.ge(zero) & finite(t1), w1)
         } else {
-            let far_ok = (one - k.ck * t2.mul_add(l, s0)).gt(zero);
+            let t2 = V::select(a.eq(zero), V::splat(f64::INFINITY), d / a);
+            let w2 = one - k.ck * t2.mul_add(l, s0);
+            let far_ok = w2.gt(zero);
             let t = V::select(near_ok, t1, t2);
-            (t, disc.ge(zero) & (near_ok | far_ok) & finite(t))
+            (t, disc.ge(zero) & (near_ok | far_ok) & finite(t), V::select(near_ok, w1, w2))
         }
     };
     let y1 = t.mul_add(m, y);
@@ -278,11 +275,11 @@ pub(crate) fn hit<V: Lane, const SHAPE: u8, const ACTION: u8>(k: &StepLanes<V>, 
     let inside = y1.abs().le(k.semi);
     let (ny, nz) = match SHAPE {
         FLAT => (zero, one),
-        SPHERE => (-k.c * y1, one - k.ck * (z1 - k.z_vertex)),
+        SPHERE => (-k.c * y1, w),
         _ => {
-            let (ny, nz) = (-k.c * y1, one - k.ck * (z1 - k.z_vertex));
-            let inv = one / ny.mul_add(ny, nz * nz).sqrt();
-            (ny * inv, nz * inv)
+            let ny = -k.c * y1;
+            let inv = one / ny.mul_add(ny, w * w).sqrt();
+            (ny * inv, w * inv)
         }
     };
     let cos_i = m.mul_add(ny, l * nz);
@@ -291,7 +288,7 @@ pub(crate) fn hit<V: Lane, const SHAPE: u8, const ACTION: u8>(k: &StepLanes<V>, 
             let mu = k.mu;
             let sin_i = m.mul_add(nz, -(l * ny));
             let cos2 = (-(mu * mu) * sin_i).mul_add(sin_i, one);
-            let cos_r = cos2.max0().sqrt().copysign(cos_i);
+            let cos_r = cos2.max0().sqrt().signed_like(cos_i);
             let g = cos_r - mu * cos_i;
             (mu.mul_add(m, g * ny), mu.mul_add(l, g * nz), cos2.lt(zero))
         }
@@ -302,7 +299,7 @@ pub(crate) fn hit<V: Lane, const SHAPE: u8, const ACTION: u8>(k: &StepLanes<V>, 
         _ => {
             let tan1 = m / l.abs() - y1 / k.focal;
             let inv = one / tan1.mul_add(tan1, one).sqrt();
-            (tan1 * inv, inv.copysign(l), zero.lt(zero))
+            (tan1 * inv, inv.signed_like(l), zero.lt(zero))
         }
     };
     Hit { y: y1, z: z1, m: m1, l: l1, t, met, inside, tir }
