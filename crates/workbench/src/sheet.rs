@@ -4,7 +4,7 @@
 //! applied (never clamped).
 
 use crate::{Edit, Workbench};
-use lumenrail_bench::model::{Coating, MaterialSpec, Part, PartKind, SurfaceSpec};
+use lumenrail_bench::model::{Coating, EyeModel, MaterialSpec, Part, PartKind, SurfaceSpec};
 use lumenrail_bench::report::fixed;
 use lumenrail_bench::validate::{Severity, validate};
 use lumenrail_optics::library;
@@ -367,6 +367,7 @@ pub(crate) fn sheet_ui(wb: &mut Workbench, ui: &mut egui::Ui) {
     material_ui(wb, ui, index);
     own_figures_ui(wb, ui, index);
     if matches!(part.kind, PartKind::Eye { .. }) {
+        eye_model_ui(wb, ui, index);
         corrector_ui(wb, ui, &part);
     }
     ui.horizontal(|ui| {
@@ -383,6 +384,28 @@ pub(crate) fn sheet_ui(wb: &mut Workbench, ui: &mut egui::Ui) {
             }
         }
     });
+}
+
+/// The eye part's schematic eye, chosen from the two published models; the choice is one undo step.
+fn eye_model_ui(wb: &mut Workbench, ui: &mut egui::Ui, index: usize) {
+    let PartKind::Eye { model, .. } = wb.bench.parts[index].kind else { return };
+    let name = |m: EyeModel| match m {
+        EyeModel::Gullstrand => "Gullstrand's exact schematic eye (six surfaces)",
+        EyeModel::Reduced => "Emsley's reduced eye (one surface, 60 D)",
+    };
+    let mut chosen = model;
+    egui::ComboBox::from_label("eye model").selected_text(name(model)).show_ui(ui, |ui| {
+        for m in [EyeModel::Gullstrand, EyeModel::Reduced] {
+            ui.selectable_value(&mut chosen, m, name(m));
+        }
+    });
+    if chosen != model {
+        let mut part = wb.bench.parts[index].clone();
+        if let PartKind::Eye { model, .. } = &mut part.kind {
+            *model = chosen;
+        }
+        wb.apply(Edit::Replace { index, part }, None);
+    }
 }
 
 /// A lens's or mirror's own first-order figures, alone in air at the bench's primary wavelength (from the

@@ -109,3 +109,30 @@ fn a_lab_sheet_is_written_from_the_file_menu() {
     );
     std::fs::remove_dir_all(&dir).ok();
 }
+
+/// The eye's part sheet chooses its schematic eye: the reduced eye in place of Gullstrand's, as one undo
+/// step. The spectacle lens for a −3 D myope at 12 mm is the same for both, since the error is set at the
+/// cornea: F_s = F_o / (1 + d F_o) = −3 / (1 − 0.036) = −3.11 D (the vertex-distance formula; e.g.
+/// Rabbetts, *Clinical Visual Optics*, ch. 4, from memory).
+#[test]
+fn the_eye_model_is_chosen_in_the_part_sheet() {
+    use lumenrail_bench::model::{EyeModel, PartKind};
+    let model = |h: &Harness<'_, Workbench>| {
+        h.state().bench.parts.iter().find_map(|p| match p.kind {
+            PartKind::Eye { model, .. } => Some(model),
+            _ => None,
+        })
+    };
+    let mut h = harness("myopic-eye");
+    h.get_by_label("Student eye").click();
+    h.run_steps(4);
+    h.get_by_label("eye model").click();
+    h.run();
+    h.get_by_label("Emsley's reduced eye (one surface, 60 D)").click();
+    h.run_steps(4);
+    assert_eq!(model(&h), Some(EyeModel::Reduced));
+    let _ = h.get_by_label_contains("spectacle lens of -3.11 D");
+    h.state_mut().undo();
+    h.run_steps(4);
+    assert_eq!(model(&h), Some(EyeModel::Gullstrand));
+}
