@@ -241,6 +241,9 @@ pub struct Report {
     pub off_axis_transmission: Option<f64>,
     /// Share of the off-axis point's pupil area that passes every aperture (1: no vignetting).
     pub off_axis_area_transmission: Option<f64>,
+    /// Whether that share settled; false: it is approximate, the arms traced across the pupil disagreeing
+    /// from one to the next (a pinhole far smaller than the beam).
+    pub off_axis_area_settled: bool,
     /// The part whose clear aperture first clips the off-axis point's pupil (null: nothing clips it).
     pub off_axis_clipped_by: Option<String>,
     /// The largest off-axis point (object height in mm, or field angle in degrees) whose whole pupil gets
@@ -351,6 +354,7 @@ impl Report {
             afocal: None,
             off_axis_transmission: None,
             off_axis_area_transmission: None,
+            off_axis_area_settled: true,
             off_axis_clipped_by: None,
             unclipped_field: None,
             vignetting_pending: false,
@@ -529,6 +533,7 @@ impl Report {
         };
         self.off_axis_transmission = a.off_axis_transmission;
         self.off_axis_area_transmission = a.off_axis_area_transmission;
+        self.off_axis_area_settled = a.off_axis_area_settled;
         let (line, area) = (a.off_axis_transmission.unwrap_or(1.0), a.off_axis_area_transmission.unwrap_or(1.0));
         let full_field = match bench.object {
             ObjectSpec::Point { height_mm, .. } => height_mm,
@@ -541,20 +546,27 @@ impl Report {
                 ObjectSpec::Point { height_mm, .. } => (format!("the object point {height_mm} mm off axis"), " mm"),
                 ObjectSpec::Distant { field_deg, .. } => (format!("the field point {field_deg}° off axis"), "°"),
             };
+            let about = if self.off_axis_area_settled { "" } else { "about " };
             let area = a
                 .off_axis_area_transmission
-                .map_or_else(String::new, |t| format!("{}% of its pupil's area and ", fixed(100.0 * t, 1)));
+                .map_or_else(String::new, |t| format!("{}{}% of its pupil's area and ", about, fixed(100.0 * t, 1)));
             let by =
                 self.off_axis_clipped_by.as_ref().map_or_else(String::new, |n| format!("; \"{n}\" clips it first"));
             let whole = self
                 .unclipped_field
                 .map_or_else(String::new, |f| format!("; the field passes whole up to {}{unit}", fixed(f, 3)));
+            let unsettled = if self.off_axis_area_settled {
+                ""
+            } else {
+                " (the area share is approximate: the rays traced across its pupil pass in stretches too narrow \
+                 for them to agree from one direction to the next)"
+            };
             self.warnings.push(Warning {
                 kind: WarningKind::Vignetting,
                 part: self.off_axis_clipped_by.clone(),
                 field: None,
                 message: format!(
-                    "vignetting: {off_axis} keeps {area}{}% of its meridional pupil{by}{whole}",
+                    "vignetting: {off_axis} keeps {area}{}% of its meridional pupil{by}{whole}{unsettled}",
                     fixed(100.0 * line, 1)
                 ),
             });
@@ -813,9 +825,10 @@ impl Report {
             let _ = writeln!(t, "  sharpness (wavefront, MTF) and the stray-focus map: being computed");
         }
         if let Some(v) = self.off_axis_transmission {
-            let area = self
-                .off_axis_area_transmission
-                .map_or_else(String::new, |a| format!("{}% of its pupil's area, ", fixed(100.0 * a, 1)));
+            let area = self.off_axis_area_transmission.map_or_else(String::new, |a| {
+                let about = if self.off_axis_area_settled { "" } else { "about " };
+                format!("{about}{}% of its pupil's area, ", fixed(100.0 * a, 1))
+            });
             let _ = writeln!(t, "  off-axis point keeps {area}{}% of its meridional pupil", fixed(100.0 * v, 1));
         }
         if let Some(f) = &self.field {

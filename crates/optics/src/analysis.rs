@@ -7,7 +7,7 @@
 use crate::field::{chief_height_at, field_sample};
 use crate::paraxial::{self, FirstOrder, Object, ParaxialImage};
 use crate::pupil::{FieldPoint, PupilError, Pupils, meridional_transmission};
-use crate::sampling::{SkewAimer, clipped_field_limit, pupil_transmission_integrated, rim_clears_with, rim_clipper};
+use crate::sampling::{SkewAimer, clipped_field_limit, pupil_transmission_settled, rim_clears_with, rim_clipper};
 use crate::seidel::{Seidel, seidel};
 use crate::spot::{AxialSpot, RadialMoments, SpotError, SpotFigures, spot_figures};
 use crate::system::{Sequence, System, SystemError};
@@ -204,6 +204,9 @@ pub struct Analysis {
     /// Share of the off-axis point's pupil area that passes every aperture, from skew rays
     /// ([`crate::sampling::pupil_transmission`]; `None` if not asked or its chief ray cannot be aimed).
     pub off_axis_area_transmission: Option<f64>,
+    /// Whether that share's integral settled; false: the share is approximate (see
+    /// [`crate::sampling::pupil_transmission_settled`]).
+    pub off_axis_area_settled: bool,
     /// Field curvature, astigmatism, distortion and lateral colour of the off-axis point (`None` without
     /// a final image or an off-axis point).
     pub field: Option<FieldFigures>,
@@ -226,6 +229,7 @@ impl Analysis {
     pub fn set_vignetting(&mut self, v: Vignetting) {
         self.off_axis_transmission = v.transmission;
         self.off_axis_area_transmission = v.area_transmission;
+        self.off_axis_area_settled = v.area_settled;
         self.off_axis_clipped_by = v.clipped_by;
         self.unclipped_field = v.unclipped_field;
     }
@@ -320,6 +324,7 @@ pub fn analyse_wavelengths(wavelengths: Vec<Wavelength>, request: &Request) -> R
         seidel: None,
         off_axis_transmission: None,
         off_axis_area_transmission: None,
+        off_axis_area_settled: true,
         field: None,
         off_axis_clipped_by: None,
         unclipped_field: None,
@@ -447,6 +452,8 @@ pub struct Vignetting {
     pub transmission: Option<f64>,
     /// Share of the pupil's area that passes.
     pub area_transmission: Option<f64>,
+    /// Whether that share's integral settled (false: approximate).
+    pub area_settled: bool,
     /// The first surface that clips the pupil.
     pub clipped_by: Option<usize>,
     /// The largest share of the field whose pupil passes whole.
@@ -458,6 +465,7 @@ impl Vignetting {
     pub const WHOLE: Vignetting = Vignetting {
         transmission: Some(1.0),
         area_transmission: Some(1.0),
+        area_settled: true,
         clipped_by: None,
         unclipped_field: Some(1.0),
     };
@@ -475,11 +483,13 @@ impl Vignetting {
         if aimer.as_ref().is_ok_and(|a| rim_clears_with(seq, a, pupils)) {
             return Vignetting::WHOLE;
         }
+        let area = aimer.ok().and_then(|a| pupil_transmission_settled(seq, &a, 1.0).ok());
         Vignetting {
             clipped_by: rim_clipper(seq, object, pupils, 1.0),
             unclipped_field: clipped_field_limit(seq, object, pupils),
             transmission: Some(meridional_transmission(seq, object, pupils, FieldPoint::OffAxis)),
-            area_transmission: aimer.ok().and_then(|a| pupil_transmission_integrated(seq, &a, 1.0).ok()),
+            area_transmission: area.map(|(share, _)| share),
+            area_settled: area.is_none_or(|(_, settled)| settled),
         }
     }
 }

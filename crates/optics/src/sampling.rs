@@ -465,13 +465,20 @@ pub(crate) fn clipped_field_limit(seq: &Sequence, object: Object, pupils: &Pupil
 
 /// The share by integration over arms (see [`pupil_transmission`]), with no shortcut.
 pub fn pupil_transmission_integrated(seq: &Sequence, aimer: &SkewAimer, fraction: f64) -> Result<f64, RayError> {
+    pupil_transmission_settled(seq, aimer, fraction).map(|(share, _)| share)
+}
+
+/// [`pupil_transmission_integrated`] and whether the integral settled (every part of it met its error
+/// estimate within [`ARMS`] arms); when not, the arms disagree from one to the next (a pinhole far smaller
+/// than the beam) and the share is approximate.
+pub fn pupil_transmission_settled(seq: &Sequence, aimer: &SkewAimer, fraction: f64) -> Result<(f64, bool), RayError> {
     if fraction == 0.0 {
         // The on-axis point's pupil is the same along every arm (rotational symmetry).
-        return Ok(arm_share(seq, aimer, 0.0).clamp(0.0, 1.0));
+        return Ok((arm_share(seq, aimer, 0.0).clamp(0.0, 1.0), true));
     }
     let arm = |phi: f64| arm_share(seq, aimer, phi);
-    let total = adaptive_simpson_periodic(&arm, 8, 1e-7, ARMS);
-    Ok((total / std::f64::consts::TAU).clamp(0.0, 1.0))
+    let (total, settled) = adaptive_simpson_periodic(&arm, 8, 1e-7, ARMS);
+    Ok(((total / std::f64::consts::TAU).clamp(0.0, 1.0), settled))
 }
 
 /// Σ(ρ₂² − ρ₁²) over the stretches of the arm at angle `phi` whose rays get through, each pass/block edge
@@ -531,9 +538,14 @@ impl Part {
 /// to an error of about `density` per radian: each round splits the unsettled parts with the largest error
 /// estimates (at most [`SPLITS_PER_ROUND`], the earliest made among equals), their new values computed on
 /// every core, until every part settles (or has been halved ten times) or `budget` evaluations are spent;
-/// open parts then keep their corrected estimates. The parts are summed in order of φ, so the result
-/// depends on `f` alone, not on the number of threads.
-fn adaptive_simpson_periodic(f: &(dyn Fn(f64) -> f64 + Sync), start: usize, density: f64, budget: usize) -> f64 {
+/// open parts then keep their corrected estimates, and the second value is false. The parts are summed in
+/// order of φ, so the result depends on `f` alone, not on the number of threads.
+fn adaptive_simpson_periodic(
+    f: &(dyn Fn(f64) -> f64 + Sync),
+    start: usize,
+    density: f64,
+    budget: usize,
+) -> (f64, bool) {
     let h = std::f64::consts::TAU / start as f64;
     let values: Vec<f64> = (0..4 * start).into_par_iter().map(|j| f(0.25 * h * j as f64)).collect();
     let mut spent = values.len();
@@ -572,7 +584,7 @@ fn adaptive_simpson_periodic(f: &(dyn Fn(f64) -> f64 + Sync), start: usize, dens
         }
     }
     parts.sort_by(|x, y| x.a.total_cmp(&y.a));
-    parts.iter().fold(0.0, |sum, p| sum + p.value())
+    (parts.iter().fold(0.0, |sum, p| sum + p.value()), parts.iter().all(Part::settled))
 }
 
 #[cfg(test)]
