@@ -35,8 +35,10 @@ impl Map {
         MARGIN + z_mm * self.px_per_mm
     }
 
+    /// The picture's y of a height, held within ±10⁷ px: a height far outside the picture (an object
+    /// point 10³⁰⁰ mm off axis, which no drawing can hold) is drawn to beyond the edge, never to infinity.
     fn y(&self, y_mm: f64) -> f64 {
-        self.axis_y - y_mm * self.py_per_mm
+        (self.axis_y - y_mm * self.py_per_mm).clamp(-1e7, 1e7)
     }
 
     fn points(&self, pts: impl IntoIterator<Item = (f64, f64)>) -> String {
