@@ -491,6 +491,24 @@ pub fn validate(bench: &Bench) -> Vec<Finding> {
         }
     }
     eyes(&mut c, bench);
+    // An object on a lens's or mirror's surface sends its light from the surface itself: the pupils, seen
+    // from there, have no size. A gap under the least length is that too (a fuzz finding: 1e-319 mm). A
+    // card or an iris may hold the object (a lit crosshair on the card that takes the returned image).
+    if let ObjectSpec::Point { at_mm, .. } = bench.object {
+        for (i, p) in bench.parts.iter().enumerate() {
+            if matches!(p.kind, PartKind::Screen { .. } | PartKind::Iris { .. }) {
+                continue;
+            }
+            if let Some(z) = [p.at_mm, p.end_mm()].into_iter().find(|z| (at_mm - z).abs() < *LENGTH_RANGE_MM.start()) {
+                let msg = format!(
+                    "the object at {at_mm} mm lies on {} (at {z} mm); put it at least {} mm away",
+                    c.who(i),
+                    LENGTH_RANGE_MM.start()
+                );
+                c.error(None, "object", msg);
+            }
+        }
+    }
     if c.findings.iter().any(|f| f.severity == Severity::Error) {
         return c.findings;
     }
@@ -811,6 +829,17 @@ fn laser(c: &mut Checker<'_>, bench: &Bench, l: &Laser, rail_ok: bool) {
             None,
             "waist_at_mm",
             format!("the laser's waist position {} mm must be a finite number", l.waist_at_mm),
+        );
+    } else if (l.waist_at_mm - l.at_mm).abs() > *LENGTH_RANGE_MM.end() {
+        // A fuzz finding: a waist 2e99 mm away made the beam overflow to an infinite size.
+        c.error(
+            None,
+            "waist_at_mm",
+            format!(
+                "the laser's waist at {} mm lies more than {} mm (1 km) from the laser",
+                l.waist_at_mm,
+                LENGTH_RANGE_MM.end()
+            ),
         );
     }
     if !(l.m_squared.is_finite() && l.m_squared >= 1.0) {

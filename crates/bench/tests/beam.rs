@@ -155,3 +155,16 @@ fn the_beam_view_projects_the_evaluation() {
     let none = Views::only(&Evaluation::of(&plain), &ViewRequest::default(), &[ViewKind::Beam]);
     assert!(none.beam.is_none() && none.notes.iter().any(|n| n.contains("no laser on the bench")));
 }
+
+/// Found by fuzzing (bench_file, `inf` in the report): a waist 2e99 mm from the laser made the beam
+/// overflow. A waist more than a kilometre from the laser is refused at `waist_at_mm`.
+#[test]
+fn a_waist_a_kilometre_away_is_refused() {
+    let far = LASER.replace("waist_at_mm: 20.0", "waist_at_mm: 2e99");
+    let text = lumenrail_bench::demos::find("laser-expander").unwrap().text.to_string();
+    let start = text.find("laser: (").unwrap() + "laser: ".len();
+    let end = start + text[start..].find("),").unwrap() + 1;
+    let bad = format!("{}{far}{}", &text[..start], &text[end..]);
+    let e = lumenrail_bench::file::parse("f", &bad).unwrap_err();
+    assert!(e.diagnostics[0].message.contains("more than 1000000 mm (1 km) from the laser"), "{e}");
+}

@@ -351,3 +351,18 @@ fn lengths_outside_a_micrometre_to_a_kilometre_are_refused() {
     let e = parse("f", &tiny_d).unwrap_err();
     assert!(e.diagnostics[0].message.contains("outside the 0.001 to 1000000 mm"), "{e}");
 }
+
+/// Found by fuzzing (bench_numbers, NaN in the report): an object 1e-319 mm from a thin lens left its
+/// pupils no size. An object on a part's surface, or nearer it than the least length, is refused at
+/// the object.
+#[test]
+fn an_object_on_a_part_is_refused_at_the_object() {
+    for at in ["300.0", "300.0000001"] {
+        let text = one_lens_screen().replace("Point(at_mm: 0.0", &format!("Point(at_mm: {at}"));
+        let e = parse("f", &text).unwrap_err();
+        assert!(e.diagnostics[0].message.contains("lies on thin lens \"Projection lens\""), "{e}");
+        assert_eq!(place_of(&e), (8, 5), "{e}");
+    }
+    let near = one_lens_screen().replace("Point(at_mm: 0.0", "Point(at_mm: 299.99");
+    assert!(parse("f", &near).is_ok());
+}

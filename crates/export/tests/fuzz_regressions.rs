@@ -50,6 +50,9 @@ fn bench_numbers_findings_stay_fixed() {
         let bytes = std::fs::read(&path).unwrap();
         let Ok(input) = fuzz_checks::Input::arbitrary_take_rest(arbitrary::Unstructured::new(&bytes)) else { continue };
         if let Some(bench) = input.bench() {
+            if std::env::var_os("SHOW_BENCH").is_some() {
+                eprintln!("{}\n{}", path.display(), lumenrail_bench::file::to_text(&bench));
+            }
             fuzz_checks::check_bench(&bench);
         }
     }
