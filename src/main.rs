@@ -183,8 +183,10 @@ enum Command {
         /// (with `--view rail`; at least 480x240, at most 8000 a side).
         #[arg(long, default_value = "1200x520", value_parser = parse_size)]
         size: (u32, u32),
-        /// The spot and fan views' plane: a screen's name, `best` (best focus) or a rail position in mm
-        /// (default: the first screen after the last part, else best focus).
+        /// The plane of the spot and fan views, and the one the wavefront and sharpness views refer the
+        /// wavefront to: a screen's name, `best` (best focus) or a rail position in mm (default: for the
+        /// spot and fan views the first screen after the last part, else best focus; for the wavefront and
+        /// sharpness views the paraxial image).
         #[arg(long)]
         plane: Option<String>,
         /// The spot diagram's pupil pattern: `rings` (6 rings about the centre, 127 rays), `grid` (15

@@ -22,6 +22,10 @@ use std::fmt::Write as _;
 /// while dragging (and the arranger's finalists cheap); the optics' own default (64) is for closer looks.
 pub const EVALUATION_SAMPLES_ACROSS: usize = 32;
 
+/// The padding of the PSF the sharpness view draws: four times, pixels λN/4 apart, so a diffraction-limited
+/// core spans about ten pixels rather than five.
+pub const SHOWN_PADDING: usize = 4;
+
 /// Spatial frequencies at which the report gives the contrast, cycles (line pairs) per mm.
 pub const REPORT_FREQUENCIES_PER_MM: [f64; 4] = [10.0, 20.0, 50.0, 100.0];
 
@@ -58,15 +62,18 @@ impl PointSharpness {
         self.primary.map(|i| &self.waves[i])
     }
 
-    /// The polychromatic PSF, each wavelength's (FFT padded [`DEFAULT_PADDING`] times) resampled onto the
-    /// first one's grid and weighted by its share; computed when a view asks, not with every revision.
+    /// The polychromatic PSF, each wavelength's (FFT padded [`DEFAULT_PADDING`] times, the intensity's
+    /// Nyquist rate) resampled onto the first one's grid and weighted by its share; computed when a view
+    /// asks, not with every revision.
     pub fn psf(&self) -> Option<Psf> {
-        let psfs: Vec<(f64, Psf)> = self
-            .waves
-            .iter()
-            .filter(|w| w.share > 0.0)
-            .map(|w| (w.share, Psf::of(&w.wavefront, DEFAULT_PADDING)))
-            .collect();
+        self.psf_padded(DEFAULT_PADDING)
+    }
+
+    /// [`PointSharpness::psf`] with the FFT padded `padding` times: finer pixels over the same field (the
+    /// sharpness view draws the PSF at [`SHOWN_PADDING`]).
+    pub fn psf_padded(&self, padding: usize) -> Option<Psf> {
+        let psfs: Vec<(f64, Psf)> =
+            self.waves.iter().filter(|w| w.share > 0.0).map(|w| (w.share, Psf::of(&w.wavefront, padding))).collect();
         let parts: Vec<(f64, &Psf)> = psfs.iter().map(|(s, p)| (*s, p)).collect();
         Psf::polychromatic(&parts)
     }

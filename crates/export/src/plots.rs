@@ -352,8 +352,122 @@ fn beam_ui(ui: &mut egui::Ui, views: &Views, interactive: bool, height: f32) {
         ));
     }
 }
+/// A false-colour picture of `nx` × `ny` cells, `side` points square, cell (i, j) from −x to +x and
+/// from −y (bottom) to +y (top), each cell's colour from `colour` (`None`: left as the background).
+fn cell_picture(ui: &mut egui::Ui, nx: usize, ny: usize, side: f32, colour: impl Fn(usize, usize) -> Option<Color32>) {
+    let (rect, _) = ui.allocate_exact_size(egui::vec2(side, side), egui::Sense::hover());
+    let (w, h) = (side / nx.max(1) as f32, side / ny.max(1) as f32);
+    let mut mesh = egui::Mesh::default();
+    for j in 0..ny {
+        for i in 0..nx {
+            if let Some(c) = colour(i, j) {
+                let min = egui::pos2(rect.left() + i as f32 * w, rect.bottom() - (j + 1) as f32 * h);
+                mesh.add_colored_rect(egui::Rect::from_min_size(min, egui::vec2(w, h)), c);
+            }
+        }
+    }
+    ui.painter().add(egui::Shape::mesh(mesh));
+    let edge = egui::Stroke::new(1.0, ui.visuals().weak_text_color());
+    ui.painter().rect_stroke(rect, 0.0, edge, egui::StrokeKind::Outside);
+}
+
+fn blend(a: Color32, b: Color32, t: f32) -> Color32 {
+    let t = t.clamp(0.0, 1.0);
+    let mix = |x: u8, y: u8| (f32::from(x) + (f32::from(y) - f32::from(x)) * t).round() as u8;
+    Color32::from_rgb(mix(a.r(), b.r()), mix(a.g(), b.g()), mix(a.b(), b.b()))
+}
+
+/// The wavefront map's colours: `t` from −1 (the map's lowest magnitude below zero: slate blue) through 0
+/// (the panel's own background) to +1 (rust red).
+fn wave_colour(visuals: &egui::Visuals, t: f64) -> Color32 {
+    let zero = visuals.extreme_bg_color;
+    let (low, high) = (Color32::from_rgb(52, 92, 190), Color32::from_rgb(196, 74, 38));
+    if t < 0.0 { blend(zero, low, (-t) as f32) } else { blend(zero, high, t as f32) }
+}
+
+/// The PSF picture's colours: `t` from 0 (the background) to 1 (the peak), brightness as √t so the
+/// rings show beside the core.
+fn psf_colour(visuals: &egui::Visuals, t: f64) -> Color32 {
+    let ink = if visuals.dark_mode { Color32::from_rgb(255, 214, 128) } else { Color32::from_rgb(22, 34, 96) };
+    blend(visuals.extreme_bg_color, ink, t.max(0.0).sqrt() as f32)
+}
+
+/// The primary wavelength's wavefront map of one point, with its scale in words beside it.
+fn wave_map_ui(ui: &mut egui::Ui, wf: &lumenrail_optics::wavefront::Wavefront, side: f32) {
+    let reach = wf.map.iter().flatten().fold(0.0f64, |m, w| m.max(w.abs()));
+    let n = wf.across;
+    ui.horizontal(|ui| {
+        let visuals = ui.visuals().clone();
+        cell_picture(ui, n, n, side, |i, j| {
+            wf.map[j * n + i]
+                .filter(|_| wf.coverage[j * n + i] > 0.0)
+                .map(|w| wave_colour(&visuals, if reach > 0.0 { w / reach } else { 0.0 }))
+        });
+        ui.vertical(|ui| {
+            ui.label(egui::RichText::new(format!("map at {} nm", fixed(wf.wavelength_nm, 1))).small());
+            ui.label(egui::RichText::new("piston and tilt removed; +y up").small());
+            ui.label(
+                egui::RichText::new(format!("blue −{r} to red +{r} waves", r = fixed(reach, 4)))
+                    .small()
+                    .color(ui.visuals().text_color()),
+            );
+        });
+    });
+}
+
+/// One point's polychromatic PSF: the picture (the centred square holding 95 % of its energy, at least
+/// four Airy radii) and the cut along x against the Airy pattern of the same aperture.
+fn psf_ui(ui: &mut egui::Ui, id: &str, psf: &lumenrail_optics::diffraction::Psf, interactive: bool, side: f32) {
+    let Some(first) = psf.perfect.first() else { return };
+    let airy_mm = lumenrail_optics::diffraction::AIRY_FIRST_ZERO / first.v_per_mm;
+    let half_mm = psf.half_width_holding(0.95, 4.0 * airy_mm);
+    let m = psf.size;
+    let c = m / 2;
+    let kx = ((half_mm / psf.dx_mm).round() as usize).min(c.saturating_sub(1));
+    let ky = ((half_mm / psf.dy_mm).round() as usize).min(c.saturating_sub(1));
+    let peak = psf.values.iter().copied().fold(0.0, f64::max);
+    ui.horizontal(|ui| {
+        let (nx, ny) = (2 * kx + 1, 2 * ky + 1);
+        let visuals = ui.visuals().clone();
+        cell_picture(ui, nx, ny, side, |i, j| {
+            let v = psf.values[(c - ky + j) * m + c - kx + i];
+            Some(psf_colour(&visuals, if peak > 0.0 { v / peak } else { 0.0 }))
+        });
+        let reach_mm = kx as f64 * psf.dx_mm;
+        let cut: PlotPoints = psf
+            .cut_x_of_perfect()
+            .into_iter()
+            .filter(|(x, _)| x.abs() <= reach_mm + 1e-12)
+            .map(|(x, v)| [1e3 * x, v])
+            .collect();
+        let reference: PlotPoints = (0..=200)
+            .map(|k| -reach_mm + 2.0 * reach_mm * f64::from(k) / 200.0)
+            .map(|x| [1e3 * x, psf.perfect_at(x)])
+            .collect();
+        let ink = ui.visuals().text_color();
+        ui.add_space(14.0);
+        plot(id, "x at the image, µm", "intensity (1: perfect peak)", interactive, side)
+            .include_y(0.0)
+            .include_y(1.0)
+            .show(ui, |plot_ui| {
+                plot_ui.line(Line::new("Airy pattern, same aperture", reference).color(Color32::GRAY));
+                plot_ui.line(Line::new("PSF cut along x", cut).color(ink));
+            });
+    });
+    ui.label(
+        egui::RichText::new(format!(
+            "PSF of every wavelength by its weight, {}×{} µm shown, brightness as √intensity; cut: grey, the Airy \
+             pattern of the same aperture (first dark ring at {} µm)",
+            fixed(2e3 * kx as f64 * psf.dx_mm, 1),
+            fixed(2e3 * ky as f64 * psf.dy_mm, 1),
+            fixed(1e3 * airy_mm, 2)
+        ))
+        .small(),
+    );
+}
+
 /// The wavefront view: each point's OPD fans (tangential solid, sagittal dashed) at every wavelength, in
-/// waves with piston and tilt removed, with the primary wavelength's figures beneath.
+/// waves with piston and tilt removed, its primary wavelength's map beneath, and its figures.
 fn wavefront_ui(ui: &mut egui::Ui, views: &Views, interactive: bool, height: f32) {
     let Some(v) = &views.sharpness else { return };
     ui.label(format!(
@@ -363,9 +477,10 @@ fn wavefront_ui(ui: &mut egui::Ui, views: &Views, interactive: bool, height: f32
     ));
     ui.columns(v.points.len().max(1), |cols| {
         for (col, p) in cols.iter_mut().zip(&v.points) {
-            let height = (height - 2.0 * col.spacing().interact_size.y).max(120.0);
+            let height = (height - 2.0 * col.spacing().interact_size.y).max(200.0);
+            let side = (0.38 * height).min(0.5 * col.available_width());
             let colours: Vec<Color32> = p.waves.iter().map(|w| series_colour(col, w.wavefront.wavelength_nm)).collect();
-            plot(&format!("wavefront {}", p.point.word()), "pupil coordinate", "OPD, waves", interactive, height)
+            plot(&format!("wavefront {}", p.point.word()), "pupil coordinate", "OPD, waves", interactive, height - side)
                 .show(col, |plot_ui| {
                     for (w, &c) in p.waves.iter().zip(&colours) {
                         let wf = &w.wavefront;
@@ -378,6 +493,7 @@ fn wavefront_ui(ui: &mut egui::Ui, views: &Views, interactive: bool, height: f32
                 });
             if let Some(w) = p.primary() {
                 let wf = &w.wavefront;
+                wave_map_ui(col, wf, side);
                 let verdict = if wf.diffraction_limited() { "diffraction-limited" } else { "not diffraction-limited" };
                 col.label(format!(
                     "{} at {} nm: RMS {} waves, PV {} (focus removed too: RMS {}, PV {}); Strehl {} (Maréchal {}); {verdict} (RMS ≤ λ/14)",
@@ -397,7 +513,7 @@ fn wavefront_ui(ui: &mut egui::Ui, views: &Views, interactive: bool, height: f32
 
 /// The sharpness view: each point's polychromatic MTF (tangential solid, sagittal dashed) against spatial
 /// frequency in cycles per mm at the image, with the diffraction limit in grey and the 50 % and 10 %
-/// frequencies beneath.
+/// frequencies beneath, then its PSF as a picture and a cut.
 fn sharpness_ui(ui: &mut egui::Ui, views: &Views, interactive: bool, height: f32) {
     let Some(v) = &views.sharpness else { return };
     ui.label(format!(
@@ -408,12 +524,14 @@ fn sharpness_ui(ui: &mut egui::Ui, views: &Views, interactive: bool, height: f32
     ui.columns(v.points.len().max(1), |cols| {
         for (col, p) in cols.iter_mut().zip(&v.points) {
             let Some(m) = &p.mtf else { continue };
-            let height = (height - 2.0 * col.spacing().interact_size.y).max(120.0);
+            let height = (height - 3.0 * col.spacing().interact_size.y).max(200.0);
+            let side = (0.38 * height).min(0.45 * col.available_width());
             let curve = |c: &[f64]| -> PlotPoints<'static> {
                 m.frequencies_per_mm.iter().zip(c).map(|(f, v)| [*f, *v]).collect()
             };
             let ink = col.visuals().text_color();
-            plot(&format!("mtf {}", p.point.word()), "cycles per mm at the image", "contrast", interactive, height)
+            let mtf_height = height - side;
+            plot(&format!("mtf {}", p.point.word()), "cycles per mm at the image", "contrast", interactive, mtf_height)
                 .include_y(0.0)
                 .include_y(1.0)
                 .show(col, |plot_ui| {
@@ -431,6 +549,9 @@ fn sharpness_ui(ui: &mut egui::Ui, views: &Views, interactive: bool, height: f32
                 at(m.falls_to(&m.sagittal, 0.1)),
                 fixed(m.cutoff_per_mm, 1)
             ));
+            if let Some((_, psf)) = views.psf.iter().find(|(q, _)| *q == p.point) {
+                psf_ui(col, &format!("psf {}", p.point.word()), psf, interactive, side);
+            }
         }
     });
 }

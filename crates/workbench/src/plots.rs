@@ -76,10 +76,13 @@ impl Workbench {
     }
 
     /// The request the panel makes of `kind` for the bench on screen. With the automatic plane, a selected
-    /// screen is the plane the spot and fan views look at.
+    /// screen is the plane the spot and fan views look at (the wavefront's automatic plane stays the
+    /// paraxial image, as in the report).
     fn view_key(&self, kind: ViewKind) -> ViewKey {
         let mut request = self.views.request.clone();
+        let refers_wavefront = matches!(kind, ViewKind::Wavefront | ViewKind::Sharpness);
         if request.plane == Plane::Auto
+            && !refers_wavefront
             && let Some(part) = self.selected.and_then(|i| self.bench.parts.get(i))
             && matches!(part.kind, PartKind::Screen { .. })
             && self
@@ -203,6 +206,8 @@ pub(crate) fn panel_ui(wb: &mut Workbench, ui: &mut egui::Ui) {
             .filter(|s| s.after_last_part && s.rms_spot_um.is_some())
             .map(|s| s.part.clone())
             .collect();
+        let wavefront_tab = matches!(wb.views.tab, ViewKind::Wavefront | ViewKind::Sharpness);
+        let auto = if wavefront_tab { "automatic (paraxial image)" } else { "automatic (first screen)" };
         let label = match &wb.views.request.plane {
             Plane::Auto => "automatic".to_string(),
             Plane::Screen(n) => n.clone(),
@@ -210,7 +215,7 @@ pub(crate) fn panel_ui(wb: &mut Workbench, ui: &mut egui::Ui) {
             Plane::At(z) => format!("{} mm", fixed(*z, 2)),
         };
         egui::ComboBox::from_label("plane").selected_text(label).show_ui(ui, |ui| {
-            ui.selectable_value(&mut wb.views.request.plane, Plane::Auto, "automatic (first screen)");
+            ui.selectable_value(&mut wb.views.request.plane, Plane::Auto, auto);
             for n in screens {
                 let l = format!("screen {n}");
                 ui.selectable_value(&mut wb.views.request.plane, Plane::Screen(n), l);

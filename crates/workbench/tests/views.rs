@@ -5,7 +5,7 @@ use egui::Key;
 use egui_kittest::Harness;
 use egui_kittest::kittest::Queryable as _;
 use lumenrail_bench::report::{Report, fixed};
-use lumenrail_bench::views::{Point, ViewKind, Views};
+use lumenrail_bench::views::{Plane, Point, ViewKind, Views};
 use lumenrail_workbench::Workbench;
 
 fn harness(demo: &str) -> Harness<'static, Workbench> {
@@ -365,4 +365,31 @@ fn the_wavefront_and_sharpness_views_show_the_reports_figures() {
     // The readout says whether the image is diffraction-limited.
     let said = h.get_by_label_contains("Wavefront, on-axis point: RMS").value().unwrap_or_default();
     assert!(said.contains("not diffraction-limited") && !w.diffraction_limited, "{said}");
+}
+
+/// The wavefront's plane is chosen in the panel's plane list: automatic is the paraxial image (the
+/// report's), and picking the screen refers the wavefront to the screen. The wavefront view draws each
+/// point's map, the sharpness view each point's PSF picture and cut, each with its caption.
+#[test]
+fn the_wavefront_is_referred_to_the_plane_picked_in_the_list() {
+    let mut h = harness("camera-meniscus");
+    h.get_by_label("wavefront").click();
+    h.run();
+    assert!(h.query_by_label_contains("chief ray's point on the paraxial image at").is_some());
+    assert_eq!(h.query_all_by_label_contains("blue −").count(), 2, "each point's map, with its scale");
+    h.get_by_label("plane").click();
+    h.run();
+    assert!(h.query_by_label("automatic (paraxial image)").is_some());
+    h.get_by_label("screen Film plane").click();
+    h.run();
+    assert_eq!(h.state().views.request.plane, Plane::Screen("Film plane".into()));
+    assert!(h.query_by_label_contains("chief ray's point on screen \"Film plane\" at").is_some());
+    h.get_by_label("sharpness").click();
+    h.run();
+    assert!(h.query_by_label_contains("at screen \"Film plane\" at").is_some());
+    assert_eq!(h.query_all_by_label_contains("PSF of every wavelength by its weight").count(), 2);
+    let views = h.state_mut().views().clone();
+    assert_eq!(views.psf.len(), 2);
+    let screen = h.state().evaluation.report.screens.iter().find(|s| s.part == "Film plane").unwrap().at_mm;
+    assert!((views.sharpness.unwrap().image_at_mm - screen).abs() < 1e-12, "the screen's own position");
 }

@@ -52,7 +52,8 @@ impl Point {
     }
 }
 
-/// The plane the spot and fan views look at.
+/// The plane the spot and fan views look at, and the plane the wavefront and sharpness views refer the
+/// wavefront to (their automatic plane is the paraxial image, as in the report).
 #[derive(Debug, Clone, PartialEq)]
 pub enum Plane {
     /// The first screen beyond the last part, else the on-axis best focus.
@@ -122,7 +123,7 @@ impl ViewKind {
 /// What to compute.
 #[derive(Debug, Clone, PartialEq)]
 pub struct ViewRequest {
-    /// The plane of the spot and fan views.
+    /// The plane of the spot and fan views, and of the wavefront's reference sphere.
     pub plane: Plane,
     /// How the spot diagram samples the pupil.
     pub grid: Grid,
@@ -149,11 +150,34 @@ pub struct Views {
     pub field: Option<FieldView>,
     /// The beam view.
     pub beam: Option<BeamView>,
-    /// The wavefront and sharpness views' data: the evaluation's own sharpness figures (always at the
-    /// paraxial image, whatever the plane asked for).
+    /// The wavefront and sharpness views' data: with the automatic plane the evaluation's own figures
+    /// (referred to the paraxial image, as the report's), else referred to the plane asked for.
     pub sharpness: Option<crate::sharpness::Sharpness>,
+    /// The sharpness view's polychromatic PSF of each of `sharpness`'s points that has one.
+    pub psf: Vec<(Point, lumenrail_optics::diffraction::Psf)>,
     /// Why some views are empty.
     pub notes: Vec<String>,
+}
+
+/// The plane the wavefront is referred to when the request names one: a screen beyond the last part, the
+/// best focus or a rail position, with its words. `None` for the automatic plane (the paraxial image, as
+/// in the report), or a screen the light does not reach.
+fn wavefront_plane(evaluation: &Evaluation, plane: &Plane) -> Option<(f64, String)> {
+    match plane {
+        Plane::Auto => None,
+        Plane::Screen(name) => evaluation
+            .report
+            .screens
+            .iter()
+            .find(|s| s.part == *name && s.after_last_part && s.rms_spot_um.is_some())
+            .map(|s| (s.at_mm, format!("screen \"{name}\" at {} mm", crate::report::fixed(s.at_mm, 3)))),
+        Plane::BestFocus => {
+            let z = evaluation.analysis()?.spot.as_ref()?.as_ref().ok()?.best_focus_at_mm?;
+            Some((z, format!("the best focus at {} mm", crate::report::fixed(z, 3))))
+        }
+        Plane::At(z) if z.is_finite() => Some((*z, format!("the plane at {} mm", crate::report::fixed(*z, 3)))),
+        Plane::At(_) => None,
+    }
 }
 
 /// What a point's spot and sweep figures are integrated from.
@@ -180,6 +204,7 @@ impl Views {
             field: None,
             beam: None,
             sharpness: None,
+            psf: Vec::new(),
             notes: Vec::new(),
         };
         let report = &evaluation.report;
@@ -208,17 +233,36 @@ impl Views {
         }
         if wants(ViewKind::Wavefront) || wants(ViewKind::Sharpness) {
             views.sharpness = evaluation.traced.as_ref().and_then(|t| {
-                if report.sharpness_pending {
-                    // A live evaluation left them to its job: the view computes them itself (compiling and
-                    // analysing nothing).
-                    crate::sharpness::Sharpness::at_paraxial_image(&evaluation.bench, &t.analysis, t.compiled.object)
-                } else {
-                    t.sharpness.clone()
+                let (bench, object) = (&evaluation.bench, t.compiled.object);
+                match wavefront_plane(evaluation, &request.plane) {
+                    Some((z, plane)) => Some(crate::sharpness::Sharpness::of(
+                        bench,
+                        &t.analysis,
+                        object,
+                        z,
+                        plane,
+                        crate::sharpness::EVALUATION_SAMPLES_ACROSS,
+                    )),
+                    // A live evaluation left its own figures to its job: the view computes them itself
+                    // (compiling and analysing nothing).
+                    None if report.sharpness_pending => {
+                        crate::sharpness::Sharpness::at_paraxial_image(bench, &t.analysis, object)
+                    }
+                    None => t.sharpness.clone(),
                 }
             });
             match &views.sharpness {
                 None => views.notes.push("no wavefront: the bench has no real final image to refer it to".into()),
-                Some(s) => views.notes.extend(s.notes.iter().cloned()),
+                Some(s) => {
+                    views.notes.extend(s.notes.iter().cloned());
+                    if wants(ViewKind::Sharpness) {
+                        views.psf = s
+                            .points
+                            .iter()
+                            .filter_map(|p| Some((p.point, p.psf_padded(crate::sharpness::SHOWN_PADDING)?)))
+                            .collect();
+                    }
+                }
             }
         }
         if wants(ViewKind::Colour) {
