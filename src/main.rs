@@ -22,8 +22,8 @@ struct Cli {
     /// The window's size when it opens, `WIDTHxHEIGHT` in points (default 1400x860, or as last closed).
     #[arg(long, value_name = "WxH", value_parser = parse_size)]
     window: Option<(u32, u32)>,
-    /// For the end-to-end tests: commands applied once the window is up (`move INDEX MM; restore;
-    /// save-as PATH; quit`).
+    /// For the end-to-end tests and screenshots: commands applied once the window is up (`move INDEX MM;
+    /// view NAME; restore; save-as PATH; quit`).
     #[arg(long, hide = true)]
     script: Option<String>,
     #[command(subcommand)]

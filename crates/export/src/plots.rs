@@ -446,18 +446,18 @@ fn psf_ui(ui: &mut egui::Ui, id: &str, psf: &lumenrail_optics::diffraction::Psf,
             .collect();
         let ink = ui.visuals().text_color();
         ui.add_space(14.0);
-        plot(id, "x at the image, µm", "intensity (1: perfect peak)", interactive, side)
-            .include_y(0.0)
-            .include_y(1.0)
-            .show(ui, |plot_ui| {
+        plot(id, "x at the image, µm", "of perfect peak", interactive, side).include_y(0.0).include_y(1.0).show(
+            ui,
+            |plot_ui| {
                 plot_ui.line(Line::new("Airy pattern, same aperture", reference).color(Color32::GRAY));
                 plot_ui.line(Line::new("PSF cut along x", cut).color(ink));
-            });
+            },
+        );
     });
     ui.label(
         egui::RichText::new(format!(
-            "PSF of every wavelength by its weight, {}×{} µm shown, brightness as √intensity; cut: grey, the Airy \
-             pattern of the same aperture (first dark ring at {} µm)",
+            "PSF of every wavelength by its weight, {}×{} µm shown, brightness as √intensity; cut along x: intensity \
+             over the diffraction-limited peak, grey: the Airy pattern of the same aperture (first dark ring at {} µm)",
             fixed(2e3 * kx as f64 * psf.dx_mm, 1),
             fixed(2e3 * ky as f64 * psf.dy_mm, 1),
             fixed(1e3 * airy_mm, 2)

@@ -209,11 +209,20 @@ impl WorkbenchApp {
                         eprintln!("script: {}", wb.status);
                     }
                 }
+                ["view", name] => match lumenrail_bench::views::ViewKind::from_word(name) {
+                    Some(kind) => {
+                        wb.views.shown = true;
+                        wb.views.tab = kind;
+                    }
+                    None => eprintln!("script: `{c}`: no such view"),
+                },
                 ["quit"] => {
                     self.allow_close = true;
                     ctx.send_viewport_cmd(egui::ViewportCommand::Close);
                 }
-                _ => eprintln!("script: `{c}` is not a command (move INDEX MM, restore, save-as PATH, quit)"),
+                _ => {
+                    eprintln!("script: `{c}` is not a command (move INDEX MM, view NAME, restore, save-as PATH, quit)")
+                }
             }
             eprintln!("script: done `{c}`");
         }
