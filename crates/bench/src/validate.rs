@@ -491,12 +491,13 @@ pub fn validate(bench: &Bench) -> Vec<Finding> {
         }
     }
     eyes(&mut c, bench);
-    // An object on a lens's or mirror's surface sends its light from the surface itself: the pupils, seen
-    // from there, have no size. A gap under the least length is that too (a fuzz finding: 1e-319 mm). A
-    // card or an iris may hold the object (a lit crosshair on the card that takes the returned image).
+    // An object on a lens's, mirror's or iris's surface sends its light from the surface itself: the
+    // pupils, seen from there, have no size. A gap under the least length is that too (fuzz findings: a
+    // thin lens and an iris 1e-319 mm away). A card may hold the object (a lit crosshair on the card that
+    // takes the returned image).
     if let ObjectSpec::Point { at_mm, .. } = bench.object {
         for (i, p) in bench.parts.iter().enumerate() {
-            if matches!(p.kind, PartKind::Screen { .. } | PartKind::Iris { .. }) {
+            if matches!(p.kind, PartKind::Screen { .. }) {
                 continue;
             }
             if let Some(z) = [p.at_mm, p.end_mm()].into_iter().find(|z| (at_mm - z).abs() < *LENGTH_RANGE_MM.start()) {
