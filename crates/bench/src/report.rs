@@ -329,6 +329,12 @@ fn um(mm: f64) -> f64 {
 }
 
 impl Report {
+    /// The screens beyond the last part that the on-axis light reaches, in rail order: the planes a view
+    /// can look at.
+    pub fn viewable_screens(&self) -> impl Iterator<Item = &ScreenFigures> {
+        self.screens.iter().filter(|s| s.after_last_part && s.rms_spot_um.is_some())
+    }
+
     /// The report of a bench: its [`Evaluation`]'s projection (use the evaluation when the views or the
     /// rail are wanted too, so that nothing is evaluated twice).
     pub fn of(bench: &Bench) -> Report {

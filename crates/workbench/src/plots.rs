@@ -85,12 +85,7 @@ impl Workbench {
             && !refers_wavefront
             && let Some(part) = self.selected.and_then(|i| self.bench.parts.get(i))
             && matches!(part.kind, PartKind::Screen { .. })
-            && self
-                .evaluation
-                .report
-                .screens
-                .iter()
-                .any(|s| s.part == part.name && s.after_last_part && s.rms_spot_um.is_some())
+            && self.evaluation.report.viewable_screens().any(|s| s.part == part.name)
         {
             request.plane = Plane::Screen(part.name.clone());
         }
@@ -198,14 +193,7 @@ pub(crate) fn panel_ui(wb: &mut Workbench, ui: &mut egui::Ui) {
             ui.selectable_value(&mut wb.views.tab, kind, kind.word());
         }
         ui.separator();
-        let screens: Vec<String> = wb
-            .evaluation
-            .report
-            .screens
-            .iter()
-            .filter(|s| s.after_last_part && s.rms_spot_um.is_some())
-            .map(|s| s.part.clone())
-            .collect();
+        let screens: Vec<String> = wb.evaluation.report.viewable_screens().map(|s| s.part.clone()).collect();
         let wavefront_tab = matches!(wb.views.tab, ViewKind::Wavefront | ViewKind::Sharpness);
         let auto = if wavefront_tab { "automatic (paraxial image)" } else { "automatic (first screen)" };
         let label = match &wb.views.request.plane {

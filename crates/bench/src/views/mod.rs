@@ -167,9 +167,8 @@ fn wavefront_plane(evaluation: &Evaluation, plane: &Plane) -> Option<(f64, Strin
         Plane::Auto => None,
         Plane::Screen(name) => evaluation
             .report
-            .screens
-            .iter()
-            .find(|s| s.part == *name && s.after_last_part && s.rms_spot_um.is_some())
+            .viewable_screens()
+            .find(|s| s.part == *name)
             .map(|s| (s.at_mm, format!("screen \"{name}\" at {} mm", crate::report::fixed(s.at_mm, 3)))),
         Plane::BestFocus => {
             let z = evaluation.analysis()?.spot.as_ref()?.as_ref().ok()?.best_focus_at_mm?;

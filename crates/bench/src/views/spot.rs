@@ -63,9 +63,7 @@ pub struct SpotView {
 /// The rail position and label of the spot and fan views' plane.
 pub(super) fn choose_plane(evaluation: &Evaluation, plane: &Plane, best: f64) -> (f64, String) {
     let report = &evaluation.report;
-    let screen_after = |name: &str| {
-        report.screens.iter().find(|s| s.part == name && s.after_last_part && s.rms_spot_um.is_some()).map(|s| s.at_mm)
-    };
+    let screen_after = |name: &str| report.viewable_screens().find(|s| s.part == name).map(|s| s.at_mm);
     match plane {
         Plane::Screen(name) => {
             if let Some(z) = screen_after(name) {
