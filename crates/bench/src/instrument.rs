@@ -196,11 +196,14 @@ impl InstrumentFigures {
                 };
             }
         }
-        if let (ObjectSpec::Point { height_mm, .. }, Some(v)) = (bench.object, &report.viewing)
-            && height_mm != 0.0
-        {
-            f.magnifying_power_as_arranged =
-                v.angular_size_deg.map(|a| a.to_radians().tan() / (height_mm.abs() / NEAR_POINT_MM));
+        if let (ObjectSpec::Point { height_mm, .. }, Some(v)) = (bench.object, &report.viewing) {
+            // The object's angle at the near point; a height so small that it rounds to no angle there
+            // (a subnormal) has nothing to compare with, and gets no figure rather than 0/0.
+            let seen_at_near_point = height_mm.abs() / NEAR_POINT_MM;
+            f.magnifying_power_as_arranged = v
+                .angular_size_deg
+                .map(|a| a.to_radians().tan() / seen_at_near_point)
+                .filter(|m| seen_at_near_point > 0.0 && m.is_finite());
         }
         f.field_of_view = field_of_view(bench, seq, pupils);
         Some(f)

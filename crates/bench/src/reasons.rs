@@ -77,8 +77,11 @@ fn why_null(r: &Report, path: &[String], key: &str, siblings: &Map<String, Value
         (_, "instrument") => s("the bench is neither afocal nor forms an image for viewing: no instrument figures"),
         ("eye", "near_point_mm") => s("the eye cannot accommodate (no amplitude), so its near point is its far point"),
         ("eye", "near_spectacle_power_d") => s("the object is not near: no reading lens is needed"),
-        ("instrument", "angular_magnification" | "magnifying_power_as_arranged") => {
+        ("instrument", "angular_magnification") => {
             s("the bench is not an afocal telescope, or its final image is not at infinity")
+        }
+        ("instrument", "magnifying_power_as_arranged") => {
+            s("the object is distant or its off-axis point is on the axis: there is no angle at 250 mm to compare with")
         }
         ("instrument", "field_of_view" | "real_field_mm") => {
             s("no field stop found: nothing limits the chief ray, so the field is not bounded by the bench")
