@@ -292,6 +292,8 @@ fn field_of_view(bench: &Bench, seq: &Sequence, p: &Pupils) -> Option<FieldOfVie
         .enumerate()
         .filter(|(i, (s, c))| Some(*i) != stop && s.semi_aperture_mm.is_finite() && c.y_mm != 0.0)
         .map(|(i, (s, c))| (i, s.semi_aperture_mm / c.y_mm.abs()))
+        // A chief ray so low (a subnormal field) that a rim's share overflows says nothing of a field stop.
+        .filter(|(_, share)| share.is_finite())
         .min_by(|a, b| a.1.total_cmp(&b.1))?;
     let last = p.chief.last()?;
     let apparent = (last.nu / seq.n_image()).abs() * share;
@@ -303,7 +305,7 @@ fn field_of_view(bench: &Bench, seq: &Sequence, p: &Pupils) -> Option<FieldOfVie
     };
     match bench.object {
         ObjectSpec::Point { at_mm, height_mm } => {
-            fov.real_field_mm = Some(2.0 * (share * height_mm).abs());
+            fov.real_field_mm = Some(2.0 * (share * height_mm).abs()).filter(|mm| mm.is_finite());
             fov.real_field_deg = p
                 .entrance_pupil_at_mm
                 .filter(|z| (z - at_mm).abs() > 0.0)

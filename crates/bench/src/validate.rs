@@ -34,6 +34,14 @@ pub const MAX_PARTS: usize = 500;
 /// mm overflows every power).
 pub const LENGTH_RANGE_MM: std::ops::RangeInclusive<f64> = 1e-3..=1e6;
 
+/// The nearest to the axis an off-axis object point may be, mm (a picometre, far below anything a bench
+/// resolves): nearer, the paraxial chief ray's heights sink towards subnormal numbers and the field
+/// figures' ratios overflow.
+pub const MIN_OFF_AXIS_MM: f64 = 1e-9;
+
+/// The smallest non-zero field angle of a distant object, degrees (a billionth), for the same reason.
+pub const MIN_FIELD_DEG: f64 = 1e-9;
+
 /// The longest rail a bench may have, mm (100 m).
 pub const MAX_RAIL_MM: f64 = 100_000.0;
 
@@ -422,11 +430,27 @@ pub fn validate(bench: &Bench) -> Vec<Finding> {
             }
             if !height_mm.is_finite() {
                 c.error(None, "object", format!("the object height {height_mm} mm must be a finite number"));
+            } else if height_mm != 0.0 && height_mm.abs() < MIN_OFF_AXIS_MM {
+                c.error(
+                    None,
+                    "object",
+                    format!(
+                        "the object height {height_mm} mm is below a picometre: give 0 for a point on the axis, or at least {MIN_OFF_AXIS_MM} mm"
+                    ),
+                );
             }
         }
         ObjectSpec::Distant { field_deg, beam_diameter_mm } => {
             if !(field_deg.is_finite() && field_deg.abs() < 90.0) {
                 c.error(None, "object", format!("the field angle {field_deg}° must lie between −90° and 90°"));
+            } else if field_deg != 0.0 && field_deg.abs() < MIN_FIELD_DEG {
+                c.error(
+                    None,
+                    "object",
+                    format!(
+                        "the field angle {field_deg}° is below a billionth of a degree: give 0 for a distant point on the axis, or at least {MIN_FIELD_DEG}°"
+                    ),
+                );
             }
             c.positive(None, "object", "the beam diameter", beam_diameter_mm);
         }

@@ -366,3 +366,20 @@ fn an_object_on_a_part_is_refused_at_the_object() {
     let near = one_lens_screen().replace("Point(at_mm: 0.0", "Point(at_mm: 299.99");
     assert!(parse("f", &near).is_ok());
 }
+
+/// Found by fuzzing (bench_numbers, NaN and then inf in the instrument figures): an object point 5e-324 mm
+/// off the axis gave no angle at 250 mm and a field-stop share that overflowed. A non-zero height below a
+/// picometre (and a non-zero field angle below 1e-9°) is refused at the object; 0 and a picometre load.
+#[test]
+fn an_object_height_below_a_picometre_is_refused() {
+    let with_height = |h: &str| one_lens_screen().replace("height_mm: 10.0", &format!("height_mm: {h}"));
+    assert!(one_lens_screen().contains("height_mm: 10.0"));
+    for h in ["5e-324", "-9e-10"] {
+        let e = parse("f", &with_height(h)).unwrap_err();
+        assert!(e.diagnostics[0].message.contains("below a picometre"), "{e}");
+        assert_eq!(place_of(&e), (8, 5), "{e}");
+    }
+    for h in ["0.0", "1e-9", "-1e-9"] {
+        assert!(parse("f", &with_height(h)).is_ok(), "{h}");
+    }
+}
