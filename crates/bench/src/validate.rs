@@ -430,6 +430,12 @@ pub fn validate(bench: &Bench) -> Vec<Finding> {
             }
             if !height_mm.is_finite() {
                 c.error(None, "object", format!("the object height {height_mm} mm must be a finite number"));
+            } else if height_mm.abs() > *LENGTH_RANGE_MM.end() {
+                c.error(
+                    None,
+                    "object",
+                    format!("the object height {height_mm} mm is more than a kilometre from the axis"),
+                );
             } else if height_mm != 0.0 && height_mm.abs() < MIN_OFF_AXIS_MM {
                 c.error(
                     None,

@@ -12,6 +12,11 @@ pub const F_LINE_NM: f64 = 486.1327;
 /// Wavelength of the hydrogen C line, nm.
 pub const C_LINE_NM: f64 = 656.2725;
 
+/// The highest refractive index a material may have. Optical materials reach about 4 (germanium in the
+/// infrared, recalled from handbook tables); a larger number is a typing slip, and one of 1e70 overflows
+/// the trace's arithmetic.
+pub const MAX_INDEX: f64 = 5.0;
+
 /// The wavelength range over which an nd/Vd (two-term Cauchy) material is accepted, nm.
 ///
 /// Project convention: the fit is anchored at F, d and C, so it is trusted from the near ultraviolet to the
@@ -81,13 +86,13 @@ impl Material {
         let bad = |what: String| Err(MaterialError::Invalid(what));
         match self {
             Material::Constant(n) => {
-                if !n.is_finite() || *n < 1.0 {
-                    return bad(format!("index {n} must be a finite number of at least 1"));
+                if !(1.0..=MAX_INDEX).contains(n) {
+                    return bad(format!("index {n} must be a number from 1 to {MAX_INDEX}"));
                 }
             }
             Material::Abbe { nd, vd } => {
-                if !nd.is_finite() || *nd < 1.0 {
-                    return bad(format!("nd {nd} must be a finite number of at least 1"));
+                if !(1.0..=MAX_INDEX).contains(nd) {
+                    return bad(format!("nd {nd} must be a number from 1 to {MAX_INDEX}"));
                 }
                 if !vd.is_finite() || *vd <= 0.0 {
                     return bad(format!("Abbe number {vd} must be finite and positive"));
@@ -134,9 +139,10 @@ impl Material {
             Material::Sellmeier { b, c_um2, .. } => {
                 let l2 = (wavelength_nm * 1e-3).powi(2);
                 let n2 = 1.0 + b.iter().zip(c_um2).map(|(bi, ci)| bi * l2 / (l2 - ci)).sum::<f64>();
-                if !(n2.is_finite() && n2 >= 1.0) {
+                if !(1.0..=MAX_INDEX * MAX_INDEX).contains(&n2) {
                     return Err(MaterialError::Invalid(format!(
-                        "the Sellmeier formula gives n² = {n2} at {wavelength_nm} nm (a resonance or an absorbing band)"
+                        "the Sellmeier formula gives n² = {n2} at {wavelength_nm} nm, outside 1 to {} (a resonance or an absorbing band)",
+                        MAX_INDEX * MAX_INDEX
                     )));
                 }
                 n2.sqrt()
@@ -183,6 +189,17 @@ mod tests {
         assert!((nd - 1.5168).abs() < 1e-14);
         assert!((dn - 0.5168 / 64.17).abs() < 1e-15);
         assert!((glass.abbe_number().unwrap() - 64.17).abs() < 1e-9);
+    }
+
+    /// Found by fuzzing (bench_file: nd = 7.8e70 made the laser beam's sizes NaN): an index above
+    /// [`MAX_INDEX`] is refused, for every kind of material.
+    #[test]
+    fn an_index_above_the_highest_is_an_error() {
+        assert!(Material::Abbe { nd: 7.8e70, vd: 64.17 }.validate().is_err());
+        assert!(Material::Constant(5.01).validate().is_err());
+        assert!(Material::Constant(4.0).validate().is_ok());
+        let s = Material::Sellmeier { b: vec![30.0], c_um2: vec![0.0], range_nm: (400.0, 700.0) };
+        assert!(s.index_at(550.0).is_err());
     }
 
     #[test]
