@@ -280,9 +280,11 @@ impl Workbench {
     /// Recomputes the report and the scene from the bench.
     pub fn refresh(&mut self) {
         self.revision += 1;
-        self.autosave_touch();
         self.evaluation = self.evaluate();
         self.scene = Scene::of(&self.evaluation);
+        // The idle time counts from the edit's end, after its evaluation (which a loaded machine can make
+        // long).
+        self.autosave_touch();
     }
 
     /// Whether part `index` is locked.
