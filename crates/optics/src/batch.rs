@@ -288,6 +288,17 @@ fn lanes_at<V: Lane, const SHAPE: u8, const ACTION: u8>(
         (opl + path).store(&mut b.opl[i..i + w]);
         return;
     }
+    let stopped_here = alive & !through;
+    if V::all(!stopped_here) {
+        // Some rays were stopped before, none here (after a rim has cut a bundle, most vectors): the
+        // living rays move on, and no fate changes.
+        h.y.store_where(ok, &mut b.y[i..i + w]);
+        h.z.store_where(ok, &mut b.z[i..i + w]);
+        h.m.store_where(ok, &mut b.m[i..i + w]);
+        h.l.store_where(ok, &mut b.l[i..i + w]);
+        (opl + path).store_where(ok, &mut b.opl[i..i + w]);
+        return;
+    }
     // The old values are read again here rather than kept in registers through the whole surface: an
     // index the compiler cannot follow makes it load them anew instead of spilling them on the usual path.
     let i = std::hint::black_box(i);
@@ -301,7 +312,7 @@ fn lanes_at<V: Lane, const SHAPE: u8, const ACTION: u8>(
     V::select(ok, h.m, m).store(&mut b.m[i..i + w]);
     V::select(ok, h.l, l).store(&mut b.l[i..i + w]);
     V::select(ok, opl + path, opl).store(&mut b.opl[i..i + w]);
-    V::select(alive & !through, V::splat(code) + code_now, fate).store(&mut b.fate[i..i + w]);
+    V::select(stopped_here, V::splat(code) + code_now, fate).store(&mut b.fate[i..i + w]);
 }
 
 #[inline(always)]

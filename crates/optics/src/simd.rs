@@ -63,6 +63,13 @@ pub(crate) trait Lane:
     fn either(self, o: Self) -> Self;
     /// Whether every lane of `m` is true.
     fn all(m: Self::Mask) -> bool;
+    /// Stores the lanes of `self` where `m` is true to the front of `s`, leaving the others as they are:
+    /// a masked store with AVX-512, else a blend with the values there (AVX2's masked store `vmaskmovpd`
+    /// is the slower of the two on the AMD processor measured: 152 against 185 M ray-surfaces/s).
+    #[inline(always)]
+    fn store_where(self, m: Self::Mask, s: &mut [f64]) {
+        Self::select(m, self, Self::load(s)).store(s);
+    }
 }
 
 impl Lane for f64 {
@@ -265,6 +272,11 @@ impl<V: Lane> Lane for Pair<V> {
     fn all(m: PairMask<V::Mask>) -> bool {
         // One test of both halves at once: no branch between them.
         V::all(m.0 & m.1)
+    }
+    #[inline(always)]
+    fn store_where(self, m: PairMask<V::Mask>, s: &mut [f64]) {
+        self.0.store_where(m.0, s);
+        self.1.store_where(m.1, &mut s[V::WIDTH..]);
     }
 }
 
@@ -492,6 +504,7 @@ mod x86 {
             // SAFETY: see `binary!`.
             unsafe { _mm256_movemask_pd(m.0) == 0b1111 }
         }
+
         #[inline(always)]
         fn select(m: M64x4, a: F64x4, b: F64x4) -> F64x4 {
             // SAFETY: see `binary!`.
@@ -651,6 +664,12 @@ mod x86 {
         #[inline(always)]
         fn all(m: M64x8) -> bool {
             m.0 == 0xff
+        }
+        #[inline(always)]
+        fn store_where(self, m: M64x8, s: &mut [f64]) {
+            assert!(s.len() >= 8);
+            // SAFETY: eight values are in bounds (checked above); see `binary!` for the feature.
+            unsafe { _mm512_mask_storeu_pd(s.as_mut_ptr(), m.0, self.0) }
         }
         #[inline(always)]
         fn select(m: M64x8, a: F64x8, b: F64x8) -> F64x8 {

@@ -46,8 +46,8 @@ impl<V: Lane> Hit3<V> {
 
 /// One 3-D ray meeting one surface. The conicoid c(x² + y²) − 2s + c(1+k)s² = 0 along the ray gives
 /// a t² + 2b t + f = 0, solved by the stable root t = f/(−b + sgn(−b)√(b² − af)) with the far-sheet
-/// fallback d/a, exactly as in the meridional kernel; then vector Snell's law with sin²I from the cross
-/// product (which keeps its digits near normal incidence), reflection, or the ideal lens's
+/// fallback d/a, exactly as in the meridional kernel; then vector Snell's law with sin²I = 1 − cos²I,
+/// reflection, or the ideal lens's
 /// tan u' = tan u − ρ/f in x and y.
 #[inline(always)]
 pub(crate) fn hit3<V: Lane, const SHAPE: u8, const ACTION: u8>(s: &StepLanes<V>, n_before: V, ray: [V; 6]) -> Hit3<V> {
@@ -60,9 +60,18 @@ pub(crate) fn hit3<V: Lane, const SHAPE: u8, const ACTION: u8>(s: &StepLanes<V>,
     let (t, met, w) = if SHAPE == FLAT {
         (-s0 / l, !l.eq(zero), one)
     } else {
-        let a = (s.ck * l).mul_add(l, s.c * k.mul_add(k, m * m));
-        let b = (s.ck * s0).mul_add(l, s.c * x.mul_add(k, y * m) - l);
-        let f = (s.ck * s0).mul_add(s0, s.c * x.mul_add(x, y * y) - V::splat(2.0) * s0);
+        let (a, b, f) = if SHAPE == SPHERE {
+            // c(1+k) = c, and a = c|d|² = c for the unit direction every ray carries: fewer operations, the
+            // same intercept to the last bits (|d|² differs from 1 by a rounding or two).
+            let b = s.c.mul_add(s0.mul_add(l, x.mul_add(k, y * m)), -l);
+            let f = s.c.mul_add(s0.mul_add(s0, x.mul_add(x, y * y)), -(s0 + s0));
+            (s.c, b, f)
+        } else {
+            let a = (s.ck * l).mul_add(l, s.c * k.mul_add(k, m * m));
+            let b = (s.ck * s0).mul_add(l, s.c * x.mul_add(k, y * m) - l);
+            let f = (s.ck * s0).mul_add(s0, s.c * x.mul_add(x, y * y) - V::splat(2.0) * s0);
+            (a, b, f)
+        };
         let disc = b.mul_add(b, -(a * f));
         let d = -b + disc.max0().sqrt().signed_like(-b);
         // The far root d/a is needed only when some lane's first root lands on the far sheet.
@@ -97,9 +106,11 @@ pub(crate) fn hit3<V: Lane, const SHAPE: u8, const ACTION: u8>(s: &StepLanes<V>,
     let (k1, m1, l1, tir) = match ACTION {
         REFRACT => {
             let mu = s.mu;
-            let (cx, cy, cz) = (m.mul_add(nz, -(l * ny)), l.mul_add(nx, -(k * nz)), k.mul_add(ny, -(m * nx)));
-            let cross2 = cx.mul_add(cx, cy.mul_add(cy, cz * cz));
-            let cos2 = (-(mu * mu)).mul_add(cross2, one);
+            // sin²I = 1 − cos²I: near normal incidence it loses its relative digits, but cos²R = 1 − μ² sin²I
+            // needs it only to its absolute rounding, which 1 − cos²I keeps (as the cross product would, in
+            // seven more operations).
+            let sin2 = (-cos_i).mul_add(cos_i, one);
+            let cos2 = (-(mu * mu)).mul_add(sin2, one);
             let g = cos2.max0().sqrt().signed_like(cos_i) - mu * cos_i;
             (mu.mul_add(k, g * nx), mu.mul_add(m, g * ny), mu.mul_add(l, g * nz), cos2.lt(zero))
         }
@@ -457,6 +468,16 @@ fn lanes_at<V: Lane, const SHAPE: u8, const ACTION: u8>(
     }
     // The old values are read again here rather than kept in registers through the whole surface: an
     // index the compiler cannot follow makes it load them anew instead of spilling them on the usual path.
+    let stopped_here = alive & !through;
+    if V::all(!stopped_here) {
+        // Some rays were stopped before, none here (after a rim has cut a bundle, most vectors): the
+        // living rays move on, and no fate changes.
+        for (a, v) in b.iter_mut().zip(new) {
+            v.store_where(ok, &mut a[i..i + w]);
+        }
+        (opl + h.path).store_where(ok, &mut b[6][i..i + w]);
+        return;
+    }
     let i = std::hint::black_box(i);
     let ray = [load(b[0], i), load(b[1], i), load(b[2], i), load(b[3], i), load(b[4], i), load(b[5], i)];
     let why = h.fate();
@@ -467,7 +488,7 @@ fn lanes_at<V: Lane, const SHAPE: u8, const ACTION: u8>(
         V::select(keep, v, old).store(&mut a[i..i + w]);
     }
     V::select(ok, opl + h.path, opl).store(&mut b[6][i..i + w]);
-    V::select(alive & !through, V::splat(code) + why, fate).store(&mut b[7][i..i + w]);
+    V::select(stopped_here, V::splat(code) + why, fate).store(&mut b[7][i..i + w]);
 }
 
 /// The typed error of a single ray that did not get through.
