@@ -26,6 +26,8 @@ pub(crate) trait Lane:
     type Mask: Copy + BitAnd<Output = Self::Mask> + BitOr<Output = Self::Mask> + Not<Output = Self::Mask>;
     /// How many f64 values one lane vector holds.
     const WIDTH: usize;
+    /// Whether [`Lane::store_where`] is one masked store (AVX-512) rather than a reload and a blend.
+    const MASKED_STORE: bool = false;
     /// Every lane set to `v`.
     fn splat(v: f64) -> Self;
     /// Loads `WIDTH` values from the front of `s`.
@@ -227,6 +229,7 @@ macro_rules! pair_cmp {
 impl<V: Lane> Lane for Pair<V> {
     type Mask = PairMask<V::Mask>;
     const WIDTH: usize = 2 * V::WIDTH;
+    const MASKED_STORE: bool = V::MASKED_STORE;
     #[inline(always)]
     fn splat(v: f64) -> Pair<V> {
         Pair(V::splat(v), V::splat(v))
@@ -595,6 +598,7 @@ mod x86 {
     impl Lane for F64x8 {
         type Mask = M64x8;
         const WIDTH: usize = 8;
+        const MASKED_STORE: bool = true;
         #[inline(always)]
         fn splat(v: f64) -> F64x8 {
             // SAFETY: see `binary!`.
