@@ -466,8 +466,6 @@ fn lanes_at<V: Lane, const SHAPE: u8, const ACTION: u8>(
         (opl + h.path).store(&mut b[6][i..i + w]);
         return;
     }
-    // The old values are read again here rather than kept in registers through the whole surface: an
-    // index the compiler cannot follow makes it load them anew instead of spilling them on the usual path.
     let stopped_here = alive & !through;
     if V::MASKED_STORE && V::all(!stopped_here) {
         // Some rays were stopped before, none here (after a rim has cut a bundle, most vectors): the
@@ -480,6 +478,8 @@ fn lanes_at<V: Lane, const SHAPE: u8, const ACTION: u8>(
         (opl + h.path).store_where(ok, &mut b[6][i..i + w]);
         return;
     }
+    // The old values are read again here rather than kept in registers through the whole surface: an
+    // index the compiler cannot follow makes it load them anew instead of spilling them on the usual path.
     let i = std::hint::black_box(i);
     let ray = [load(b[0], i), load(b[1], i), load(b[2], i), load(b[3], i), load(b[4], i), load(b[5], i)];
     let why = h.fate();
