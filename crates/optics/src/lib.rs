@@ -40,6 +40,7 @@
 pub mod analysis;
 pub mod batch;
 pub mod beam;
+mod block;
 pub mod diffraction;
 pub mod eye;
 pub mod field;

@@ -153,6 +153,114 @@ impl Lane for f64 {
     }
 }
 
+/// One f64 with fused multiply-add: the single-ray tail of the fused vector loops. Its every operation
+/// rounds as one lane of [`F64x4`] or [`F64x8`] does (IEEE division and square root, the same fused
+/// multiply-add, the same sign and maximum rules), so a fused batch gives each ray the same bits whichever
+/// slot of a block, and so which lane width, traces it.
+#[derive(Clone, Copy)]
+pub(crate) struct Fused(f64);
+
+macro_rules! fused_binary {
+    ($($tr:ident, $f:ident);*) => {
+        $(
+            impl $tr for Fused {
+                type Output = Fused;
+                #[inline(always)]
+                fn $f(self, o: Fused) -> Fused {
+                    Fused($tr::$f(self.0, o.0))
+                }
+            }
+        )*
+    };
+}
+fused_binary!(Add, add; Sub, sub; Mul, mul; Div, div);
+
+impl Neg for Fused {
+    type Output = Fused;
+    #[inline(always)]
+    fn neg(self) -> Fused {
+        Fused(-self.0)
+    }
+}
+
+impl Lane for Fused {
+    type Mask = bool;
+    const WIDTH: usize = 1;
+    #[inline(always)]
+    fn splat(v: f64) -> Fused {
+        Fused(v)
+    }
+    #[inline(always)]
+    fn load(s: &[f64]) -> Fused {
+        Fused(s[0])
+    }
+    #[inline(always)]
+    fn store(self, s: &mut [f64]) {
+        s[0] = self.0;
+    }
+    #[inline(always)]
+    fn sqrt(self) -> Fused {
+        Fused(self.0.sqrt())
+    }
+    #[inline(always)]
+    fn abs(self) -> Fused {
+        Fused(self.0.abs())
+    }
+    #[inline(always)]
+    fn copysign(self, sign: Fused) -> Fused {
+        Fused(self.0.copysign(sign.0))
+    }
+    #[inline(always)]
+    fn signed_like(self, sign: Fused) -> Fused {
+        Fused(Lane::signed_like(self.0, sign.0))
+    }
+    #[inline(always)]
+    fn mul_add(self, b: Fused, c: Fused) -> Fused {
+        // One rounding, as `vfmadd` (the instruction itself inside functions compiled for FMA).
+        Fused(f64::mul_add(self.0, b.0, c.0))
+    }
+    #[inline(always)]
+    fn lt(self, o: Fused) -> bool {
+        self.0 < o.0
+    }
+    #[inline(always)]
+    fn le(self, o: Fused) -> bool {
+        self.0 <= o.0
+    }
+    #[inline(always)]
+    fn gt(self, o: Fused) -> bool {
+        self.0 > o.0
+    }
+    #[inline(always)]
+    fn ge(self, o: Fused) -> bool {
+        self.0 >= o.0
+    }
+    #[inline(always)]
+    fn eq(self, o: Fused) -> bool {
+        Lane::eq(self.0, o.0)
+    }
+    #[inline(always)]
+    fn select(m: bool, a: Fused, b: Fused) -> Fused {
+        if m { a } else { b }
+    }
+    #[inline(always)]
+    fn max0(self) -> Fused {
+        Fused(Lane::max0(self.0))
+    }
+    #[inline(always)]
+    fn only(m: bool, v: Fused) -> Fused {
+        Fused(Lane::only(m, v.0))
+    }
+    #[inline(always)]
+    fn either(self, o: Fused) -> Fused {
+        Fused(Lane::either(self.0, o.0))
+    }
+    #[inline(always)]
+    fn all(m: bool) -> bool {
+        m
+    }
+}
+
 /// Two lane vectors traced side by side as one: each formula runs on both halves in one straight stretch of
 /// code, so the processor overlaps the two dependency chains (the square roots and divisions of one half
 /// wait while the other half computes). The arithmetic of each half is that of `V`, so `Pair<V>` agrees
